@@ -1,0 +1,49 @@
+"""Errors and warnings of optimag.
+
+`InputError` gathers every problem found in user input (study files, catalogue
+tables) so that they are reported together, each as ``file:line: field: message``.
+`ValidityRangeWarning` is raised by physics functions used outside the range their
+published source supports.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+class ValidityRangeWarning(UserWarning):
+    """A physics model was evaluated outside the range its source supports."""
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One problem in one input file.
+
+    Parameters
+    ----------
+    file : path of the offending file, as given by the user
+    line : 1-based line number in that file, or None when the problem is file-wide
+    field : the column or key concerned ("" when none applies)
+    message : what is wrong and, where possible, how to fix it
+    """
+
+    file: str
+    line: int | None
+    field: str
+    message: str
+
+    def __str__(self) -> str:
+        where = self.file if self.line is None else f"{self.file}:{self.line}"
+        return f"{where}: {self.field}: {self.message}" if self.field else f"{where}: {self.message}"
+
+
+class InputError(Exception):
+    """Bad user input; carries every problem found, not only the first."""
+
+    def __init__(self, problems: list[Problem]):
+        self.problems = list(problems)
+        super().__init__("\n".join(str(p) for p in self.problems))
+
+
+class InfeasibleStudyError(Exception):
+    """No candidate met every constraint (the run record still explains why)."""
