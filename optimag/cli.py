@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+import time
 from pathlib import Path
 
 from optimag.errors import InputError, Problem
@@ -41,6 +42,117 @@ def _check(path_text: str) -> int:
     return 0
 
 
+def _explore(args) -> int:
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+    from rich.table import Table
+
+    from optimag.catalog import load_catalog
+    from optimag.search.run import check_study_against_catalog, explore, write_run
+    from optimag.spec import load_study
+
+    console = Console(stderr=True)
+    try:
+        study = load_study(Path(args.study))
+        catalog = load_catalog(study.catalog.path)
+        check_study_against_catalog(study, catalog)
+    except InputError as error:
+        _print_problems(error.problems)
+        return 2
+    strategy = args.strategy or study.search.strategy
+    if strategy == "optuna":
+        try:
+            from optimag.search.optuna_search import explore_optuna
+        except ImportError:
+            print("the optuna strategy is not available in this version", file=sys.stderr)
+            return 2
+        result = explore_optuna(study, catalog, trials=args.trials, seed=args.seed,
+                                top=args.top, storage=args.storage, run_dir=args.out)
+    else:
+        started = time.perf_counter()
+        with Progress(
+            TextColumn("[bold]exploring[/bold]"), BarColumn(),
+            TextColumn("{task.completed:,.0f}/{task.total:,.0f} candidates"),
+            TextColumn("{task.fields[rate]}"), TimeElapsedColumn(),
+            console=console, transient=True, disable=not console.is_terminal,
+        ) as progress:
+            task = progress.add_task("explore", total=None, rate="")
+
+            def report(done: int, total: int) -> None:
+                elapsed = max(time.perf_counter() - started, 1e-9)
+                progress.update(task, completed=done, total=total,
+                                rate=f"{done / elapsed:,.0f}/s")
+
+            result = explore(study, catalog, top=args.top, progress=report)
+    run_dir = write_run(result, Path(args.out) if args.out else None)
+    _write_report(run_dir, console)
+    counts = result.record["counts"]
+    out = Console()
+    if result.record.get("interrupted"):
+        out.print("[yellow]Interrupted: the results below cover the candidates evaluated "
+                  "before the stop.[/yellow]")
+    out.print(
+        f"{counts['total']:,} candidates in {result.record['wall_time_s']:.2f} s "
+        f"({result.record['candidates_per_s']:,.0f}/s): {counts['feasible']:,} feasible, "
+        f"{counts['pareto']} on the Pareto front."
+    )
+    elim = Table(title="Eliminated by constraint (first failed, in check order)")
+    elim.add_column("constraint")
+    elim.add_column("candidates", justify="right")
+    elim.add_column("share", justify="right")
+    for name, count in counts["eliminated"].items():
+        elim.add_row(name, f"{count:,}", f"{count / max(counts['total'], 1):.1%}")
+    out.print(elim)
+    if not result.feasible:
+        out.print("[bold red]No candidate meets every constraint.[/bold red] Nearest misses:")
+        misses = Table()
+        for col in ("core", "material", "turns", "wire", "parallel", "worst constraint",
+                    "violation"):
+            misses.add_column(col)
+        for rec in result.near_miss_records:
+            misses.add_row(rec["core"], rec["material"], str(rec["turns"]), rec["wire"],
+                           str(rec["parallel"]), rec.get("worst_constraint", ""),
+                           f"{rec.get('worst_violation', 0):+.1%}")
+        out.print(misses)
+        out.print(f"Run record: {run_dir}")
+        return 1
+    table = Table(title=f"Short-list (first {min(5, len(result.shortlist_records))}; all in "
+                        f"{run_dir / 'shortlist.csv'})")
+    for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "loss W", "T °C",
+                "vol cm³", "cost"):
+        table.add_column(col)
+    for rec in result.shortlist_records[:5]:
+        table.add_row(
+            rec["design_id"] + (" (knee)" if rec.get("knee") else ""), rec["core"],
+            rec["material"], str(rec["turns"]), f"{rec['gap_mm']:.3f}", rec["wire"],
+            str(rec["parallel"]), f"{rec['total_loss_W']:.3f}", f"{rec['temperature_C']:.1f}",
+            f"{rec['volume_cm3']:.2f}", f"{rec['cost']:.2f}",
+        )
+    out.print(table)
+    out.print(f"Results: {run_dir} (report.html, shortlist.csv/.xlsx/.json, pareto.csv, run.json)")
+    return 0
+
+
+def _write_report(run_dir: Path, console) -> None:
+    try:
+        from optimag.report.html import build_report
+    except ImportError:
+        return
+    build_report(run_dir)
+
+
+def _report(args) -> int:
+    from optimag.report.html import build_report
+
+    run_dir = Path(args.run_dir)
+    if not (run_dir / "run.json").is_file():
+        print(f"{run_dir}: not a run folder (no run.json)", file=sys.stderr)
+        return 2
+    path = build_report(run_dir)
+    print(f"Report: {path}")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="optimag", description="Power-inductor design search for switch-mode converters."
@@ -48,6 +160,17 @@ def build_parser() -> argparse.ArgumentParser:
     commands = parser.add_subparsers(dest="command", required=True)
     check = commands.add_parser("check", help="validate a study file or a catalogue folder")
     check.add_argument("path", help="a study .toml file or a catalogue folder")
+    explore = commands.add_parser("explore", help="search the design space of a study")
+    explore.add_argument("study", help="the study .toml file")
+    explore.add_argument("--out", help="run folder (default runs/<study>-<timestamp>)")
+    explore.add_argument("--top", type=int, default=20, help="short-list length (default 20)")
+    explore.add_argument("--strategy", choices=["exhaustive", "optuna"],
+                         help="override the study's search strategy")
+    explore.add_argument("--trials", type=int, help="optuna: number of trials")
+    explore.add_argument("--seed", type=int, help="optuna: sampler seed")
+    explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")
+    report = commands.add_parser("report", help="rebuild report.html of a run folder")
+    report.add_argument("run_dir", help="a run folder written by explore")
     return parser
 
 
@@ -56,6 +179,10 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(argv)
     if args.command == "check":
         return _check(args.path)
+    if args.command == "explore":
+        return _explore(args)
+    if args.command == "report":
+        return _report(args)
     parser.error(f"unknown command {args.command}")
     return 2
 

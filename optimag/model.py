@@ -1,0 +1,790 @@
+"""The inductor model: from candidate designs to their figures, constraints and objectives.
+
+A candidate is (core, stack, material, turns, gap, wire, parallel strands). The model is
+split along what each quantity depends on, so that a search can evaluate each factor once
+over its own small grid, prune, and combine:
+
+* `magnetic_stage` — (core, stack, material, turns, gap): gap, inductance, peak flux,
+  flux swing and the core-loss density at every operating point;
+* `winding_layout_stage` — (core, stack, turns, wire, parallel): layout, fill, MLT, DC
+  resistance, boxed size; `winding_loss_stage` on the windings that fit: DC and AC winding
+  loss at two temperatures;
+* `combine_stage` — the whole candidate: the loss-temperature fixed point per operating
+  point, objectives and the remaining constraints.
+
+`evaluate` runs the three on flat candidate arrays; the exhaustive search runs the same
+functions on factor grids, so both paths give the same numbers.
+
+SI units throughout; trade units only in the column names of `design_space_frame` and the
+records built by the exporter.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from optimag.constants import COPPER_RESISTIVITY_20C, COPPER_TEMPCO_20C
+from optimag.physics import coreloss, geometry, magnetic, thermal, winding
+
+#: Constraint names in the order a candidate's elimination is attributed.
+CONSTRAINTS = (
+    "inductance",
+    "saturation",
+    "inductance_at_peak",
+    "window_fit",
+    "fill_factor",
+    "height",
+    "footprint",
+    "thermal_runaway",
+    "temperature",
+    "loss_budget",
+)
+MAGNETIC_CONSTRAINTS = CONSTRAINTS[:3]
+WINDING_CONSTRAINTS = CONSTRAINTS[3:7]
+FINAL_CONSTRAINTS = CONSTRAINTS[7:]
+
+#: Objective name -> metric column.
+OBJECTIVE_COLUMNS = {
+    "volume": "volume_cm3",
+    "loss": "total_loss_W",
+    "cost": "cost",
+    "mass": "mass_g",
+}
+
+FAMILY_CODES = {"E": 0, "pot": 1, "toroid": 2}
+MATERIAL_KIND_CODES = {"ferrite": 0, "powder": 1}
+WIRE_KIND_CODES = {"round": 0, "litz": 1, "foil": 2}
+
+#: Temperatures at which winding loss is evaluated; in between it is interpolated
+#: linearly (exact for DC loss, whose resistance is linear in temperature).
+WINDING_REFERENCE_TEMPERATURES_C = (20.0, 120.0)
+
+
+def _mm(values) -> np.ndarray:
+    return np.asarray(values, dtype=float) * 1e-3
+
+
+def _mm2(values) -> np.ndarray:
+    return np.asarray(values, dtype=float) * 1e-6
+
+
+def _mm3(values) -> np.ndarray:
+    return np.asarray(values, dtype=float) * 1e-9
+
+
+def _optional(frame: pd.DataFrame, column: str, default: float = 0.0) -> np.ndarray:
+    if column not in frame:
+        return np.full(len(frame), default)
+    return frame[column].astype(float).fillna(default).to_numpy()
+
+
+@dataclass(frozen=True)
+class CoreArrays:
+    """Per-core-set constants in SI units (one entry per catalogue row)."""
+
+    ids: np.ndarray
+    family: np.ndarray
+    ae_m2: np.ndarray
+    le_m: np.ndarray
+    ve_m3: np.ndarray
+    amin_m2: np.ndarray
+    window_area_m2: np.ndarray
+    breadth_m: np.ndarray
+    window_width_m: np.ndarray
+    leg_width_m: np.ndarray
+    leg_depth_m: np.ndarray
+    bobbin_wall_m: np.ndarray
+    length_m: np.ndarray
+    width_m: np.ndarray
+    height_m: np.ndarray
+    price: np.ndarray
+    max_stack: np.ndarray
+
+    @classmethod
+    def from_frame(cls, cores: pd.DataFrame) -> CoreArrays:
+        return cls(
+            ids=cores["id"].astype(str).to_numpy(),
+            family=cores["family"].map(FAMILY_CODES).to_numpy(dtype=np.int8),
+            ae_m2=_mm2(cores["Ae_mm2"]),
+            le_m=_mm(cores["le_mm"]),
+            ve_m3=_mm3(cores["Ve_mm3"]),
+            amin_m2=_mm2(cores["Amin_mm2"]),
+            window_area_m2=_mm2(cores["window_area_mm2"]),
+            breadth_m=_mm(cores["window_breadth_mm"]),
+            window_width_m=_mm(cores["window_width_mm"]),
+            leg_width_m=_mm(cores["leg_width_mm"]),
+            leg_depth_m=_mm(cores["leg_depth_mm"]),
+            bobbin_wall_m=_mm(_optional(cores, "bobbin_wall_mm")),
+            length_m=_mm(cores["length_mm"]),
+            width_m=_mm(cores["width_mm"]),
+            height_m=_mm(cores["height_mm"]),
+            price=cores["price"].astype(float).to_numpy(),
+            max_stack=cores["max_stack"].astype(int).to_numpy(),
+        )
+
+
+@dataclass(frozen=True)
+class MaterialArrays:
+    """Per-material constants (Steinmetz in W/m^3 with f in Hz and B in T)."""
+
+    ids: np.ndarray
+    kind: np.ndarray
+    mu_i: np.ndarray
+    bsat_25C_T: np.ndarray
+    bsat_100C_T: np.ndarray
+    k: np.ndarray
+    alpha: np.ndarray
+    beta: np.ndarray
+    k_i: np.ndarray
+    f_min_Hz: np.ndarray
+    f_max_Hz: np.ndarray
+    b_max_T: np.ndarray
+    ct0: np.ndarray
+    ct1: np.ndarray
+    ct2: np.ndarray
+    rolloff_a: np.ndarray
+    rolloff_b: np.ndarray
+    rolloff_c: np.ndarray
+    density: np.ndarray
+    price_factor: np.ndarray
+
+    @classmethod
+    def from_frame(cls, materials: pd.DataFrame) -> MaterialArrays:
+        k = materials["steinmetz_k"].astype(float).to_numpy()
+        alpha = materials["steinmetz_alpha"].astype(float).to_numpy()
+        beta = materials["steinmetz_beta"].astype(float).to_numpy()
+        return cls(
+            ids=materials["id"].astype(str).to_numpy(),
+            kind=materials["kind"].map(MATERIAL_KIND_CODES).to_numpy(dtype=np.int8),
+            mu_i=materials["mu_i"].astype(float).to_numpy(),
+            bsat_25C_T=materials["bsat_25C_T"].astype(float).to_numpy(),
+            bsat_100C_T=materials["bsat_100C_T"].astype(float).to_numpy(),
+            k=k,
+            alpha=alpha,
+            beta=beta,
+            k_i=np.asarray(coreloss.igse_coefficient(k, alpha, beta), dtype=float),
+            f_min_Hz=materials["f_min_kHz"].astype(float).to_numpy() * 1e3,
+            f_max_Hz=materials["f_max_kHz"].astype(float).to_numpy() * 1e3,
+            b_max_T=materials["b_max_T"].astype(float).to_numpy(),
+            ct0=materials["ct0"].astype(float).to_numpy(),
+            ct1=materials["ct1_per_C"].astype(float).to_numpy(),
+            ct2=materials["ct2_per_C2"].astype(float).to_numpy(),
+            rolloff_a=_optional(materials, "rolloff_a", 1.0),
+            rolloff_b=_optional(materials, "rolloff_b", 0.0),
+            rolloff_c=_optional(materials, "rolloff_c", 1.0),
+            density=materials["density_kg_m3"].astype(float).to_numpy(),
+            price_factor=materials["price_factor"].astype(float).to_numpy(),
+        )
+
+
+@dataclass(frozen=True)
+class WireArrays:
+    """Per-wire constants: one *conductor* is one round wire, one litz bundle or one foil."""
+
+    ids: np.ndarray
+    kind: np.ndarray
+    copper_area_m2: np.ndarray
+    outer_m: np.ndarray
+    bare_diameter_m: np.ndarray
+    strands: np.ndarray
+    strand_diameter_m: np.ndarray
+    foil_thickness_m: np.ndarray
+    foil_width_m: np.ndarray
+    insulation_m: np.ndarray
+    price_per_kg: np.ndarray
+
+    @classmethod
+    def from_frame(cls, wires: pd.DataFrame) -> WireArrays:
+        kind = wires["kind"].map(WIRE_KIND_CODES).to_numpy(dtype=np.int8)
+        bare = _mm(_optional(wires, "bare_diameter_mm"))
+        strand_d = _mm(_optional(wires, "strand_diameter_mm"))
+        strands = _optional(wires, "strands", 1.0)
+        thickness = _mm(_optional(wires, "foil_thickness_mm"))
+        foil_width = _mm(_optional(wires, "foil_width_mm"))
+        insulation = _mm(_optional(wires, "insulation_mm"))
+        outer = _mm(_optional(wires, "outer_diameter_mm"))
+        copper = np.select(
+            [kind == 0, kind == 1, kind == 2],
+            [np.pi / 4 * bare**2, strands * np.pi / 4 * strand_d**2, thickness * foil_width],
+        )
+        # A foil's "outer" size in the build direction is its thickness plus insulation.
+        outer = np.where(kind == 2, thickness + insulation, outer)
+        return cls(
+            ids=wires["id"].astype(str).to_numpy(),
+            kind=kind,
+            copper_area_m2=copper,
+            outer_m=outer,
+            bare_diameter_m=np.where(kind == 1, strand_d, bare),
+            strands=strands,
+            strand_diameter_m=strand_d,
+            foil_thickness_m=thickness,
+            foil_width_m=foil_width,
+            insulation_m=insulation,
+            price_per_kg=wires["price_per_kg"].astype(float).to_numpy(),
+        )
+
+
+@dataclass(frozen=True)
+class OperatingArrays:
+    """Operating points stacked on a leading axis K (currents at the required inductance)."""
+
+    names: tuple[str, ...]
+    share: np.ndarray  # (K,)
+    frequency_Hz: float
+    dcm: np.ndarray  # (K,) bool
+    rise: np.ndarray  # (K,)
+    fall: np.ndarray  # (K,)
+    dc_A: np.ndarray  # (K,)
+    ripple_A: np.ndarray  # (K,) peak to peak
+    harmonics_A: np.ndarray  # (K, H)
+    ripple_waveforms: tuple = field(default=(), repr=False)
+
+    @classmethod
+    def from_waveforms(cls, waveforms) -> OperatingArrays:
+        return cls(
+            names=tuple(w.name for w in waveforms),
+            share=np.array([w.time_share for w in waveforms], dtype=float),
+            frequency_Hz=float(waveforms[0].frequency_Hz),
+            dcm=np.array([w.dcm for w in waveforms], dtype=bool),
+            rise=np.array([w.rise_fraction for w in waveforms], dtype=float),
+            fall=np.array([w.fall_fraction for w in waveforms], dtype=float),
+            dc_A=np.array([w.dc_A for w in waveforms], dtype=float),
+            ripple_A=np.array([w.ripple_pp_A for w in waveforms], dtype=float),
+            harmonics_A=np.stack([np.asarray(w.harmonics_A, dtype=float) for w in waveforms]),
+            ripple_waveforms=tuple(waveforms),
+        )
+
+    @property
+    def valley_A(self) -> np.ndarray:
+        return np.where(self.dcm, 0.0, self.dc_A - self.ripple_A / 2)
+
+    @property
+    def peak_A(self) -> np.ndarray:
+        return np.where(self.dcm, self.ripple_A, self.dc_A + self.ripple_A / 2)
+
+
+@dataclass(frozen=True)
+class Requirements:
+    """The study's inductance requirement and limits, SI."""
+
+    inductance_H: float
+    tolerance: float
+    min_fraction_at_peak: float
+    ambient_C: float
+    max_temperature_C: float
+    max_height_m: float
+    max_footprint_m2: float
+    flux_margin: float
+    max_fill_factor: float
+    max_loss_W: float
+    fringing: str
+    thermal_model: str
+    emissivity: float
+    labour_per_turn: float
+
+
+@dataclass(frozen=True)
+class DesignSpace:
+    """Everything the model needs: catalogue arrays, operating points, limits and the
+    axes of the search (turns, stacks, parallels, gap options)."""
+
+    cores: CoreArrays
+    materials: MaterialArrays
+    wires: WireArrays
+    operating: OperatingArrays
+    requirements: Requirements
+    turns: np.ndarray
+    stacks: np.ndarray
+    parallels: np.ndarray
+    gap_grid_m: np.ndarray | None  # None: gap solved for the inductance
+
+    @property
+    def n_gap_options(self) -> int:
+        return 1 if self.gap_grid_m is None else len(self.gap_grid_m)
+
+
+def _finite_or_inf(value) -> float:
+    return float("inf") if value is None else float(value)
+
+
+def build_design_space(study, catalog) -> DesignSpace:
+    """Gather the study's requirements and the (filtered) catalogue into SI arrays."""
+    from optimag.spec import operating_waveforms
+
+    search = study.search
+    cores, materials, wires = catalog.cores, catalog.materials, catalog.wires
+    if search.cores:
+        cores = cores[cores["id"].isin(search.cores)]
+    if search.materials:
+        materials = materials[materials["id"].isin(search.materials)]
+    if search.wires:
+        wires = wires[wires["id"].isin(search.wires)]
+    limits = study.limits
+    requirements = Requirements(
+        inductance_H=float(study.required_inductance_H),
+        tolerance=float(study.inductor.inductance_tolerance_pct) / 100.0,
+        min_fraction_at_peak=float(study.inductor.min_fraction_at_peak),
+        ambient_C=float(limits.ambient_C),
+        max_temperature_C=float(limits.max_temperature_C),
+        max_height_m=_finite_or_inf(limits.max_height_mm) * 1e-3,
+        max_footprint_m2=_finite_or_inf(limits.max_footprint_mm2) * 1e-6,
+        flux_margin=float(limits.flux_margin),
+        max_fill_factor=float(limits.max_fill_factor),
+        max_loss_W=_finite_or_inf(limits.max_loss_W),
+        fringing=study.model.fringing,
+        thermal_model=study.model.thermal,
+        emissivity=float(study.model.emissivity),
+        labour_per_turn=float(study.cost.labour_per_turn),
+    )
+    waveforms = operating_waveforms(study)
+    gap_grid = None
+    if search.gap == "grid":
+        gap_grid = np.asarray(search.gap_grid_mm, dtype=float) * 1e-3
+    return DesignSpace(
+        cores=CoreArrays.from_frame(cores.reset_index(drop=True)),
+        materials=MaterialArrays.from_frame(materials.reset_index(drop=True)),
+        wires=WireArrays.from_frame(wires.reset_index(drop=True)),
+        operating=OperatingArrays.from_waveforms(waveforms),
+        requirements=requirements,
+        turns=np.arange(search.turns_min, search.turns_max + 1, dtype=np.int64),
+        stacks=np.arange(search.stack_min, search.stack_max + 1, dtype=np.int64),
+        parallels=np.arange(search.parallel_min, search.parallel_max + 1, dtype=np.int64),
+        gap_grid_m=gap_grid,
+    )
+
+
+# ---------------------------------------------------------------------------------------
+# Stage 1: magnetic circuit, saturation and core loss
+# ---------------------------------------------------------------------------------------
+
+
+def gap_allowed(space: DesignSpace, core: np.ndarray, material: np.ndarray) -> np.ndarray:
+    """A discrete gap is cut only in ferrite E and pot cores; powder has its gap
+    distributed and a ring cannot be gapped in practice (common practice, no source)."""
+    return (space.materials.kind[material] == 0) & (space.cores.family[core] != 2)
+
+
+def magnetic_stage(
+    space: DesignSpace,
+    core: np.ndarray,
+    stack: np.ndarray,
+    material: np.ndarray,
+    turns: np.ndarray,
+    gap_option: np.ndarray,
+) -> dict[str, np.ndarray]:
+    """Inductance, gap, flux and core-loss figures for flat (core, stack, material, turns,
+    gap option) arrays. ``gap_option`` indexes the study's gap grid (ignored when the gap is
+    solved). Per-operating-point outputs have shape (n, K).
+
+    Returns normalised violations (> 0 means violated) for `MAGNETIC_CONSTRAINTS`.
+    """
+    c, m = space.cores, space.materials
+    req, op = space.requirements, space.operating
+    stack_f = stack.astype(float)
+    n_turns = turns.astype(float)
+    ae = c.ae_m2[core] * stack_f
+    amin = c.amin_m2[core] * stack_f
+    le = c.le_m[core]
+    ve = c.ve_m3[core] * stack_f
+    leg_w = c.leg_width_m[core]
+    leg_d = c.leg_depth_m[core] * stack_f
+    breadth = c.breadth_m[core]
+    mu_i = m.mu_i[material]
+    powder = m.kind[material] == 1
+    can_gap = gap_allowed(space, core, material)
+
+    # Gap: solved for the target, stepped on the study's grid, or none.
+    if space.gap_grid_m is None:
+        solved = magnetic.gap_for_inductance(
+            n_turns, req.inductance_H, le, ae, mu_i, breadth,
+            fringing=req.fringing, leg_width_m=leg_w, leg_depth_m=leg_d,
+        )
+        gap = np.where(can_gap, solved, 0.0)
+    else:
+        gap = np.where(can_gap, space.gap_grid_m[gap_option], 0.0)
+    unreachable = np.isnan(gap)
+    gap = np.where(unreachable, 0.0, gap)
+
+    r_core = magnetic.core_reluctance(le, ae, mu_i)
+    r_gap = _gap_reluctance(req.fringing, gap, ae, leg_w, leg_d, breadth)
+    # Powder: mu_i is the initial permeability; its roll-off starts from 1/a at H = 0.
+    powder_l0 = magnetic.powder_inductance(
+        n_turns, 0.0, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
+        m.rolloff_c[material],
+    )
+    inductance0 = np.where(powder, powder_l0, magnetic.inductance(n_turns, r_core + r_gap))
+
+    relative_error = np.abs(inductance0 / req.inductance_H - 1.0)
+    tolerance = max(req.tolerance, 1e-9)
+    inductance_violation = np.where(
+        unreachable, 1.0 + relative_error / tolerance, relative_error / tolerance - 1.0
+    )
+    if space.gap_grid_m is None:
+        # A solved gap hits the target by construction; only rounding remains.
+        inductance_violation = np.where(
+            can_gap & ~unreachable, np.minimum(inductance_violation, -1.0), inductance_violation
+        )
+
+    # Currents at the required inductance (operating points, shape (1, K)).
+    dc = op.dc_A[None, :]
+    peak = op.peak_A[None, :]
+    valley = op.valley_A[None, :]
+
+    # Flux: linear (ferrite) core B = L i / (N A); powder from its roll-off law.
+    h_peak = n_turns[:, None] * peak / le[:, None]
+    h_valley = n_turns[:, None] * valley / le[:, None]
+    powder_args = (
+        mu_i[:, None], m.rolloff_a[material][:, None], m.rolloff_b[material][:, None],
+        m.rolloff_c[material][:, None],
+    )
+    b_peak_powder = magnetic.powder_flux_density(h_peak, *powder_args)
+    b_valley_powder = magnetic.powder_flux_density(h_valley, *powder_args)
+    flux_per_amp = (inductance0 / (n_turns * ae))[:, None]
+    b_peak_linear = flux_per_amp * peak
+    b_swing = np.where(
+        powder[:, None], b_peak_powder - b_valley_powder, flux_per_amp * (peak - valley)
+    )
+    b_peak = np.where(powder[:, None], b_peak_powder, b_peak_linear)
+    # Saturation is decided in the narrowest section, at the hottest allowed temperature:
+    # a feasible part runs no hotter, and Bsat falls with temperature.
+    b_peak_narrow = b_peak * (ae / amin)[:, None]
+    bsat_hot = magnetic.bsat_at_temperature(
+        req.max_temperature_C, m.bsat_25C_T[material], m.bsat_100C_T[material]
+    )
+    flux_limit = req.flux_margin * bsat_hot
+    worst_flux = b_peak_narrow.max(axis=1)
+    saturation_violation = worst_flux / flux_limit - 1.0
+
+    # Inductance left at the highest peak current (powder roll-off; ferrite stays linear
+    # below saturation, which the saturation constraint guards).
+    worst_peak = float(op.peak_A.max())
+    powder_lpk = magnetic.powder_inductance(
+        n_turns, worst_peak, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
+        m.rolloff_c[material],
+    )
+    inductance_peak = np.where(powder, powder_lpk, inductance0)
+    peak_fraction = inductance_peak / req.inductance_H
+    peak_violation = 1.0 - peak_fraction / req.min_fraction_at_peak
+
+    # Core loss density by iGSE on the triangular (CCM) or three-segment (DCM) flux.
+    loss_density = coreloss.igse_loss_density_triangle(
+        op.frequency_Hz, b_swing, op.rise[None, :], m.k[material][:, None],
+        m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=op.fall[None, :],
+    )
+    core_loss_reference = loss_density * ve[:, None]  # W at temperature factor 1
+    return {
+        "gap_m": gap,
+        "inductance_H": inductance0,
+        "inductance_at_peak_H": inductance_peak,
+        "peak_flux_T": b_peak,
+        "flux_swing_T": b_swing,
+        "worst_flux_T": worst_flux,
+        "flux_limit_T": flux_limit,
+        "core_loss_reference_W": core_loss_reference,
+        "dc_current_A": np.broadcast_to(dc, b_peak.shape),
+        "violation_inductance": inductance_violation,
+        "violation_saturation": saturation_violation,
+        "violation_inductance_at_peak": peak_violation,
+    }
+
+
+def _gap_reluctance(fringing, gap, ae, leg_w, leg_d, breadth):
+    if fringing == "ideal":
+        return magnetic.gap_reluctance_ideal(gap, ae)
+    if fringing == "muhlethaler":
+        return magnetic.gap_reluctance_muhlethaler(gap, leg_w, leg_d, breadth)
+    return magnetic.gap_reluctance_mclyman(gap, ae, breadth)
+
+
+# ---------------------------------------------------------------------------------------
+# Stage 2: winding layout, resistance, AC factors, size
+# ---------------------------------------------------------------------------------------
+
+
+def winding_layout_stage(
+    space: DesignSpace,
+    core: np.ndarray,
+    stack: np.ndarray,
+    turns: np.ndarray,
+    wire: np.ndarray,
+    parallel: np.ndarray,
+) -> dict[str, np.ndarray]:
+    """Layout, fill, MLT, DC resistance, boxed size and copper cost for flat (core, stack,
+    turns, wire, parallel) arrays, with normalised violations of `WINDING_CONSTRAINTS`."""
+    c, w = space.cores, space.wires
+    req = space.requirements
+    n_turns = turns.astype(float)
+    n_par = parallel.astype(float)
+    stack_f = stack.astype(float)
+    family = c.family[core]
+    kind = w.kind[wire]
+    breadth = c.breadth_m[core]
+    width = c.window_width_m[core]
+
+    round_fit = winding.round_layout(n_turns, n_par, w.outer_m[wire], breadth, width)
+    foil_fit = winding.foil_layout(
+        n_turns, n_par, w.foil_thickness_m[wire], w.insulation_m[wire], w.foil_width_m[wire],
+        breadth, width,
+    )
+    is_foil = kind == 2
+    layers = np.where(is_foil, foil_fit.layers, round_fit.layers).astype(float)
+    per_layer = np.where(is_foil, 1.0, round_fit.conductors_per_layer).astype(float)
+    build = np.where(is_foil, foil_fit.build_m, round_fit.build_m)
+    fits = np.where(is_foil, foil_fit.fits, round_fit.fits)
+    # Foil does not go on a ring (common practice, no source).
+    fits = fits & ~(is_foil & (family == 2))
+
+    copper_per_turn = w.copper_area_m2[wire] * n_par
+    fill = winding.fill_factor(n_turns * copper_per_turn, c.window_area_m2[core])
+
+    leg_perimeter = np.where(
+        family == 1,
+        np.pi * c.leg_width_m[core],
+        2.0 * (c.leg_width_m[core] + c.leg_depth_m[core] * stack_f),
+    )
+    toroid_od = c.length_m[core]
+    toroid_id = toroid_od - 2.0 * c.leg_width_m[core]
+    mlt = np.where(
+        family == 2,
+        winding.mean_turn_length_toroid(toroid_od, toroid_id, c.height_m[core] * stack_f, build),
+        winding.mean_turn_length(leg_perimeter, c.bobbin_wall_m[core], build),
+    )
+    rdc20 = winding.dc_resistance(COPPER_RESISTIVITY_20C, mlt, n_turns, copper_per_turn)
+
+    box_e = geometry.wound_box_e_type(
+        c.length_m[core], c.width_m[core], c.height_m[core], c.leg_depth_m[core], stack_f,
+        c.bobbin_wall_m[core], build,
+    )
+    box_pot = geometry.wound_box_pot(c.length_m[core], c.height_m[core], stack_f)
+    box_ring = geometry.wound_box_toroid(toroid_od, toroid_id, c.height_m[core], stack_f, build)
+    box_length, box_width, box_height = (
+        np.select([family == 0, family == 1, family == 2], [e, p, r])
+        for e, p, r in zip(box_e, box_pot, box_ring, strict=True)
+    )
+    footprint = geometry.footprint(box_length, box_width)
+    copper_mass = geometry.copper_mass(n_turns, mlt, copper_per_turn)
+    return {
+        "layers": layers,
+        "conductors_per_layer": per_layer,
+        "build_m": build,
+        "fill_factor": fill,
+        "mlt_m": mlt,
+        "copper_area_m2": copper_per_turn,
+        "dc_resistance_20C_ohm": rdc20,
+        "box_length_m": box_length,
+        "box_width_m": box_width,
+        "box_height_m": box_height,
+        "footprint_m2": footprint,
+        "volume_m3": geometry.box_volume(box_length, box_width, box_height),
+        "surface_m2": geometry.surface_area_box(box_length, box_width, box_height),
+        "copper_mass_kg": copper_mass,
+        "copper_cost": copper_mass * w.price_per_kg[wire] + n_turns * req.labour_per_turn,
+        "violation_window_fit": np.where(fits, -1.0, 1.0 + np.maximum(build / width - 1.0, 0)),
+        "violation_fill_factor": fill / req.max_fill_factor - 1.0,
+        "violation_height": box_height / req.max_height_m - 1.0,
+        "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
+    }
+
+
+def winding_loss_stage(
+    space: DesignSpace,
+    turns: np.ndarray,
+    wire: np.ndarray,
+    parallel: np.ndarray,
+    layout: dict[str, np.ndarray],
+    core: np.ndarray,
+) -> dict[str, np.ndarray]:
+    """DC and AC winding loss at every operating point (shape (n, K)) at the two
+    temperatures of `WINDING_REFERENCE_TEMPERATURES_C`, for windings laid out by
+    `winding_layout_stage` (row-aligned ``layout``)."""
+    op = space.operating
+    n_turns = turns.astype(float)
+    n_par = parallel.astype(float)
+    kind = space.wires.kind[wire]
+    breadth = space.cores.breadth_m[core]
+    n_harm = op.harmonics_A.shape[1]
+    # The switching frequency is common to all operating points, so the AC factors are
+    # evaluated once per winding and weighted by each point's harmonic amplitudes.
+    freq = op.frequency_Hz * np.arange(1, n_harm + 1, dtype=float)[None, :]
+    dc_sq = op.dc_A**2
+    amp_sq_half = 0.5 * op.harmonics_A**2  # (K, H)
+    out = {}
+    for label, temp in zip(("lo", "hi"), WINDING_REFERENCE_TEMPERATURES_C, strict=True):
+        rho = float(winding.copper_resistivity(temp))
+        factors = _ac_factors(
+            space, wire, kind, layout["conductors_per_layer"], layout["layers"], n_turns, n_par,
+            breadth, freq, rho,
+        )
+        rdc = layout["dc_resistance_20C_ohm"] * (rho / COPPER_RESISTIVITY_20C)
+        out[f"winding_dc_{label}_W"] = rdc[:, None] * dc_sq[None, :]
+        out[f"winding_ac_{label}_W"] = rdc[:, None] * (factors @ amp_sq_half.T)
+    return out
+
+
+def _ac_factors(space, wire, kind, per_layer, layers, n_turns, n_par, breadth, freq, rho):
+    """AC resistance factor per harmonic, shape (n, H), by conductor kind."""
+    w = space.wires
+    out = np.empty((len(wire), freq.shape[1]))
+    col = (slice(None), None)
+    for code in np.unique(kind):
+        sel = kind == code
+        if code == 0:
+            out[sel] = winding.round_wire_ac_factor(
+                freq, rho, w.bare_diameter_m[wire[sel]][col], per_layer[sel][col],
+                breadth[sel][col], layers[sel][col],
+            )
+        elif code == 1:
+            # Parallel bundles act as one bundle of strands x parallel strands.
+            out[sel] = winding.litz_ac_factor(
+                freq, rho, (w.strands[wire[sel]] * n_par[sel])[col], n_turns[sel][col],
+                w.strand_diameter_m[wire[sel]][col], breadth[sel][col],
+            )
+        else:
+            out[sel] = winding.foil_ac_factor(
+                freq, rho, w.foil_thickness_m[wire[sel]][col], layers[sel][col]
+            )
+    return out
+
+
+# ---------------------------------------------------------------------------------------
+# Stage 3: the whole candidate: temperatures, objectives, remaining constraints
+# ---------------------------------------------------------------------------------------
+
+
+def combine_stage(
+    space: DesignSpace,
+    material: np.ndarray,
+    stack: np.ndarray,
+    core: np.ndarray,
+    turns: np.ndarray,
+    mag: dict[str, np.ndarray],
+    wdg: dict[str, np.ndarray],
+) -> dict[str, np.ndarray]:
+    """Loss-temperature fixed point at every operating point, objectives and the final
+    constraints, for candidates whose stage outputs ``mag`` and ``wdg`` are row-aligned."""
+    m, c = space.materials, space.cores
+    req, op = space.requirements, space.operating
+    t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
+    # Total loss as a quadratic in temperature: core loss times ct0 - ct1 T + ct2 T^2,
+    # plus winding loss on the line through its two reference temperatures.
+    core_ref = mag["core_loss_reference_W"]
+    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"]
+    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"]
+    slope = (wind_hi - wind_lo) / (t_hi - t_lo)
+    a0 = core_ref * m.ct0[material][:, None] + wind_lo - slope * t_lo
+    a1 = -core_ref * m.ct1[material][:, None] + slope
+    a2 = core_ref * m.ct2[material][:, None]
+    surface = wdg["surface_m2"][:, None]
+    height = wdg["box_height_m"][:, None]
+    ve = (c.ve_m3[core] * stack.astype(float))[:, None]
+    fixed = thermal.loss_temperature_fixed_point(
+        req.ambient_C, (a0, a1, a2), surface, height, emissivity=req.emissivity,
+        model=req.thermal_model, ve_m3=ve,
+    )
+    temperature = fixed.temperature_C
+    runaway = fixed.runaway
+    safe_t = np.where(runaway, req.max_temperature_C, temperature)
+    ct = coreloss.core_loss_temperature_factor(
+        safe_t, m.ct0[material][:, None], m.ct1[material][:, None], m.ct2[material][:, None]
+    )
+    fraction = (safe_t - t_lo) / (t_hi - t_lo)
+    core_loss = core_ref * ct
+    dc_loss = wdg["winding_dc_lo_W"] + fraction * (wdg["winding_dc_hi_W"] - wdg["winding_dc_lo_W"])
+    ac_loss = wdg["winding_ac_lo_W"] + fraction * (wdg["winding_ac_hi_W"] - wdg["winding_ac_lo_W"])
+    point_loss = core_loss + dc_loss + ac_loss
+    weighted_loss = point_loss @ op.share
+    worst_t = temperature.max(axis=1)
+    any_runaway = runaway.any(axis=1)
+
+    core_mass = geometry.core_mass(c.ve_m3[core], m.density[material], stack.astype(float))
+    mass = core_mass + wdg["copper_mass_kg"]
+    cost = (
+        c.price[core] * stack * m.price_factor[material] + wdg["copper_cost"]
+    )
+    temperature_span = req.max_temperature_C - req.ambient_C
+    return {
+        "temperature_C": temperature,
+        "runaway": runaway,
+        "core_loss_W": core_loss,
+        "winding_dc_loss_W": dc_loss,
+        "winding_ac_loss_W": ac_loss,
+        "point_loss_W": point_loss,
+        "core_loss_temperature_factor": ct,
+        "total_loss_W": weighted_loss,
+        "worst_temperature_C": np.where(any_runaway, np.inf, worst_t),
+        "volume_cm3": wdg["volume_m3"] * 1e6,
+        "mass_g": mass * 1e3,
+        "cost": cost,
+        "violation_thermal_runaway": np.where(any_runaway, 1.0, -1.0),
+        "violation_temperature": np.where(
+            any_runaway, 1.0, (worst_t - req.max_temperature_C) / temperature_span
+        ),
+        "violation_loss_budget": weighted_loss / req.max_loss_W - 1.0,
+    }
+
+
+# ---------------------------------------------------------------------------------------
+# Flat evaluation
+# ---------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Candidates:
+    """Flat candidate arrays (indices into the design space's tables)."""
+
+    core: np.ndarray
+    stack: np.ndarray
+    material: np.ndarray
+    turns: np.ndarray
+    gap_option: np.ndarray
+    wire: np.ndarray
+    parallel: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.core)
+
+    @classmethod
+    def from_arrays(cls, **arrays) -> Candidates:
+        n = max(np.size(v) for v in arrays.values())
+        return cls(**{k: np.broadcast_to(np.asarray(v, dtype=np.int64), (n,)).copy()
+                      for k, v in arrays.items()})
+
+    def take(self, index) -> Candidates:
+        return Candidates(**{k: getattr(self, k)[index] for k in self.__dataclass_fields__})
+
+
+def violations_matrix(metrics: dict[str, np.ndarray]) -> np.ndarray:
+    """Normalised violations in `CONSTRAINTS` order, shape (n, C); > 0 means violated."""
+    return np.stack([metrics[f"violation_{name}"] for name in CONSTRAINTS], axis=1)
+
+
+def first_violated(violations: np.ndarray) -> np.ndarray:
+    """Index into `CONSTRAINTS` of the first violated constraint, or -1 if feasible."""
+    bad = violations > 0
+    first = np.argmax(bad, axis=1)
+    return np.where(bad.any(axis=1), first, -1)
+
+
+def evaluate(space: DesignSpace, candidates: Candidates) -> dict[str, np.ndarray]:
+    """Every figure, constraint violation and objective for flat candidate arrays."""
+    cand = candidates
+    mag = magnetic_stage(space, cand.core, cand.stack, cand.material, cand.turns,
+                         cand.gap_option)
+    wdg = winding_layout_stage(space, cand.core, cand.stack, cand.turns, cand.wire,
+                               cand.parallel)
+    wdg.update(winding_loss_stage(space, cand.turns, cand.wire, cand.parallel, wdg, cand.core))
+    final = combine_stage(space, cand.material, cand.stack, cand.core, cand.turns, mag, wdg)
+    metrics = {**mag, **wdg, **final}
+    violations = violations_matrix(metrics)
+    metrics["feasible"] = ~(violations > 0).any(axis=1)
+    metrics["first_violated"] = first_violated(violations)
+    metrics["worst_violation"] = violations.max(axis=1)
+    return metrics
+
+
+def objective_matrix(metrics: dict[str, np.ndarray], objectives: list[str]) -> np.ndarray:
+    """Objective columns (minimised) in the study's order, shape (n, n_objectives)."""
+    return np.stack([metrics[OBJECTIVE_COLUMNS[name]] for name in objectives], axis=1)

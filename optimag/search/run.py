@@ -1,0 +1,205 @@
+"""From a study to a finished run: search, front, short-list, run record, run folder."""
+
+from __future__ import annotations
+
+import difflib
+import json
+import re
+import shutil
+import time
+from dataclasses import dataclass, field
+from datetime import datetime
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from optimag import __version__, model
+from optimag.errors import InputError, Problem
+from optimag.report import export
+from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
+from optimag.search.pareto import knee_index
+
+DEFAULT_TOP = 20
+
+
+@dataclass
+class ExploreResult:
+    """A finished search. ``pareto``, ``shortlist`` and ``eliminated`` are DataFrames;
+    ``record`` is the run record written to run.json."""
+
+    study: object
+    catalog: object
+    space: model.DesignSpace
+    pareto: pd.DataFrame
+    shortlist: pd.DataFrame
+    shortlist_records: list[dict]
+    eliminated: pd.DataFrame
+    record: dict
+    front_candidates: model.Candidates | None
+    front_metrics: dict[str, np.ndarray] | None
+    near_miss_records: list[dict] = field(default_factory=list)
+    run_dir: Path | None = None
+
+    @property
+    def feasible(self) -> bool:
+        return len(self.pareto) > 0
+
+
+def check_study_against_catalog(study, catalog) -> None:
+    """Ids named in the study's search filters must exist in the catalogue."""
+    problems = []
+    tables = {"cores": catalog.cores, "materials": catalog.materials, "wires": catalog.wires}
+    for key, table in tables.items():
+        wanted = getattr(study.search, key) or []
+        known = set(table["id"].astype(str))
+        for ident in wanted:
+            if ident not in known:
+                close = difflib.get_close_matches(ident, sorted(known), n=1)
+                hint = f"; did you mean '{close[0]}'?" if close else ""
+                problems.append(Problem(
+                    str(study.path), _line_of(study, key), f"search.{key}",
+                    f"'{ident}' is not in the catalogue {catalog.folder}{hint}",
+                ))
+    if problems:
+        raise InputError(problems)
+
+
+def _line_of(study, key: str) -> int | None:
+    for number, line in enumerate(study.source_text.splitlines(), start=1):
+        if re.match(rf"\s*{re.escape(key)}\s*=", line):
+            return number
+    return None
+
+
+def explore(study, catalog=None, top: int = DEFAULT_TOP, progress=None,
+            chunk_size: int | None = None) -> ExploreResult:
+    """Run the study's exhaustive search and build the front, short-list and run record.
+
+    ``study`` is a loaded Study or a path to a study file; ``catalog`` defaults to the
+    study's catalogue.
+    """
+    from optimag.catalog import load_catalog
+    from optimag.spec import load_study
+
+    if not hasattr(study, "search"):
+        study = load_study(Path(study))
+    if catalog is None:
+        catalog = load_catalog(study.catalog.path)
+    check_study_against_catalog(study, catalog)
+    space = model.build_design_space(study, catalog)
+    objectives = list(study.search.objectives)
+    kwargs = {"chunk_size": chunk_size} if chunk_size else {}
+    outcome = explore_exhaustive(space, objectives, progress=progress, **kwargs)
+    return _assemble(study, catalog, space, objectives, outcome, top)
+
+
+def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
+    front = outcome.front
+    front_candidates = front_metrics = None
+    records: list[dict] = []
+    pareto = pd.DataFrame(columns=export.PARETO_COLUMNS)
+    shortlist_records: list[dict] = []
+    if len(front):
+        order = np.lexsort(front.objectives.T[::-1])
+        front_candidates = model.Candidates(
+            **{f: front.payload[f][order] for f in CANDIDATE_FIELDS}
+        )
+        front_metrics = model.evaluate(space, front_candidates)
+        ids = [f"D{i + 1:04d}" for i in range(len(order))]
+        records = export.design_records(space, front_candidates, front_metrics, ids)
+        knee = knee_index(front.objectives[order])
+        for i, rec in enumerate(records):
+            rec["knee"] = i == knee
+        pareto = export.records_frame(records)[export.PARETO_COLUMNS]
+        first = model.OBJECTIVE_COLUMNS[objectives[0]]
+        ranked = [knee] + [int(i) for i in np.argsort(pareto[first].to_numpy(), kind="stable")
+                           if i != knee]
+        shortlist_records = [records[i] for i in ranked[:top]]
+        for rank, rec in enumerate(shortlist_records, start=1):
+            rec["rank"] = rank
+    near_records = []
+    if outcome.feasible == 0 and outcome.near_misses is not None:
+        near_metrics = model.evaluate(space, outcome.near_misses)
+        ids = [f"M{i + 1:02d}" for i in range(len(outcome.near_misses))]
+        near_records = export.design_records(space, outcome.near_misses, near_metrics, ids)
+
+    eliminated = pd.DataFrame(
+        [{"constraint": k, "eliminated": v, "share": v / max(outcome.total, 1)}
+         for k, v in outcome.eliminated.items()]
+    )
+    limits = study.limits.model_dump() if hasattr(study.limits, "model_dump") else {}
+    record = {
+        "tool": "optimag",
+        "version": __version__,
+        "study_name": study.name,
+        "study_title": study.title,
+        "strategy": "exhaustive",
+        "catalog_folder": str(catalog.folder),
+        "catalog_hash": catalog.content_hash,
+        "model": {
+            "fringing": space.requirements.fringing,
+            "thermal": space.requirements.thermal_model,
+            "core_loss": "iGSE",
+            "ac_resistance": "Dowell/Sullivan",
+            "harmonics": int(space.operating.harmonics_A.shape[1]),
+            "winding_loss_temperature": "interpolated between "
+            f"{model.WINDING_REFERENCE_TEMPERATURES_C[0]} and "
+            f"{model.WINDING_REFERENCE_TEMPERATURES_C[1]} degC",
+        },
+        "objectives": objectives,
+        "required_inductance_uH": space.requirements.inductance_H * 1e6,
+        "counts": {
+            "total": int(outcome.total),
+            "feasible": int(outcome.feasible),
+            "pareto": len(pareto),
+            "eliminated": {k: int(v) for k, v in outcome.eliminated.items()},
+            "stages": outcome.stage_sizes,
+        },
+        "interrupted": outcome.interrupted,
+        "wall_time_s": round(outcome.wall_time_s, 4),
+        "candidates_per_s": round(outcome.total / max(outcome.wall_time_s, 1e-9), 1),
+        "limits": limits,
+        "operating_points": [
+            {"name": p.name, "input_V": p.input_V, "output_V": p.output_V, "load_A": p.load_A,
+             "time_share": p.time_share}
+            for p in study.operating_points
+        ],
+        "currency": study.cost.currency,
+        "near_misses": near_records,
+    }
+    return ExploreResult(
+        study=study, catalog=catalog, space=space, pareto=pareto,
+        shortlist=export.records_frame(shortlist_records), shortlist_records=shortlist_records,
+        eliminated=eliminated, record=record, front_candidates=front_candidates,
+        front_metrics=front_metrics, near_miss_records=near_records,
+    )
+
+
+def default_run_dir(study, root: Path | None = None) -> Path:
+    stamp = datetime.now().strftime("%Y%m%d-%H%M%S")
+    return (root or Path("runs")) / f"{study.name}-{stamp}"
+
+
+def write_run(result: ExploreResult, run_dir: Path | None = None) -> Path:
+    """Write the run folder: study copy, run.json, pareto and short-list tables, report."""
+    run_dir = Path(run_dir) if run_dir else default_run_dir(result.study)
+    run_dir.mkdir(parents=True, exist_ok=True)
+    shutil.copyfile(result.study.path, run_dir / "study.toml")
+    started = time.perf_counter()
+    export.write_tables(run_dir, result.pareto, result.shortlist_records)
+    (run_dir / "run.json").write_text(
+        json.dumps(result.record, indent=1, default=_json_default, allow_nan=False),
+        encoding="utf-8",
+    )
+    result.record["export_time_s"] = round(time.perf_counter() - started, 4)
+    result.run_dir = run_dir
+    return run_dir
+
+
+def _json_default(value):
+    if isinstance(value, np.generic):
+        return value.item()
+    if isinstance(value, Path):
+        return str(value)
+    raise TypeError(f"not JSON serialisable: {type(value).__name__}")
