@@ -1,0 +1,53 @@
+"""Study files and converter waveforms: what the inductor must do."""
+
+from optimag.spec.study import (
+    CatalogRef,
+    Converter,
+    Cost,
+    Inductor,
+    Limits,
+    ModelChoices,
+    OperatingPoint,
+    Search,
+    Study,
+    StudyInfo,
+    load_study,
+    parse_study,
+)
+from optimag.spec.waveform import (
+    InductorCurrentShape,
+    Waveform,
+    ccm_duty_ratio,
+    ccm_ripple_inductance,
+    converter_waveform,
+    inductor_current_shape,
+    inductor_voltages,
+    operating_waveforms,
+    piecewise_linear_harmonics,
+    triangle_harmonics,
+)
+
+__all__ = [
+    "CatalogRef",
+    "Converter",
+    "Cost",
+    "Inductor",
+    "InductorCurrentShape",
+    "Limits",
+    "ModelChoices",
+    "OperatingPoint",
+    "Search",
+    "Study",
+    "StudyInfo",
+    "Waveform",
+    "ccm_duty_ratio",
+    "ccm_ripple_inductance",
+    "converter_waveform",
+    "inductor_current_shape",
+    "inductor_voltages",
+    "load_study",
+    "operating_waveforms",
+    "parse_study",
+    "piecewise_linear_harmonics",
+    "triangle_harmonics",
+]

@@ -1,0 +1,769 @@
+"""Study files: TOML text -> validated, frozen `Study`.
+
+A study states the converter, its operating points, the inductance it needs, the
+limits a design must respect, the search settings and the catalogue to search.
+`load_study` reports every problem in the file at once, each with its line, its
+dotted key (``limits.ambient_C``, ``operating_points[2].input_V``) and a message
+that says what is allowed.
+
+Validation happens in two passes: each section is checked on its own (types,
+ranges, names), then the checks that tie keys together (shares summing to 1, a buck
+stepping down, turns_min <= turns_max, ...) run on every section that passed, so
+one bad section does not hide the faults of another.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import os
+import re
+import tomllib
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Annotated, Any, Literal
+
+import numpy as np
+from pydantic import (
+    AllowInfNan,
+    BaseModel,
+    ConfigDict,
+    Field,
+    PrivateAttr,
+    Strict,
+    StringConstraints,
+    ValidationError,
+    ValidationInfo,
+    field_validator,
+    model_validator,
+)
+
+from optimag.errors import InputError, Problem
+from optimag.spec.waveform import ccm_ripple_inductance
+
+# Strict numbers: TOML already types its values, so "12" must stay an error rather than
+# be coerced, and nan/inf (legal TOML) are rejected.
+Number = Annotated[float, Strict(), AllowInfNan(False)]
+PositiveNumber = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0)]
+Fraction = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=1)]
+RippleFraction = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=2)]
+Percent = Annotated[float, Strict(), AllowInfNan(False), Field(ge=0, le=50)]
+Celsius = Annotated[float, Strict(), AllowInfNan(False), Field(gt=-273.15)]
+Count = Annotated[int, Strict(), Field(ge=1)]
+Text = Annotated[str, Strict()]
+Name = Annotated[str, Strict(), StringConstraints(min_length=1, max_length=80)]
+Slug = Annotated[str, Strict(), StringConstraints(pattern=r"^[a-z0-9-]+$", max_length=64)]
+
+#: Ripple fraction used when a study states neither an inductance nor a ripple
+#: fraction: 40 % peak-to-peak of the average current (common practice, no source).
+DEFAULT_RIPPLE_FRACTION = 0.4
+
+#: Tolerance on the sum of the operating points' time shares.
+TIME_SHARE_TOLERANCE = 1e-6
+
+
+class _Section(BaseModel):
+    model_config = ConfigDict(frozen=True, extra="forbid")
+
+
+class StudyInfo(_Section):
+    """``[study]``: identity of the study."""
+
+    name: Slug
+    title: Text
+
+
+class Converter(_Section):
+    """``[converter]``: topology and switching frequency."""
+
+    topology: Literal["buck", "boost", "buck-boost"]
+    switching_frequency_kHz: PositiveNumber
+
+
+class OperatingPoint(_Section):
+    """One ``[[operating_points]]`` entry."""
+
+    name: Name
+    input_V: PositiveNumber
+    output_V: PositiveNumber
+    load_A: PositiveNumber
+    time_share: Fraction
+
+
+class Inductor(_Section):
+    """``[inductor]``: the inductance requirement, given directly or by ripple."""
+
+    inductance_uH: PositiveNumber | None = None
+    ripple_fraction: RippleFraction | None = None
+    ripple_point: Name | None = None
+    inductance_tolerance_pct: Percent = 10.0
+    min_fraction_at_peak: Fraction = 0.8
+
+    @model_validator(mode="before")
+    @classmethod
+    def _default_ripple(cls, data: Any) -> Any:
+        if (
+            isinstance(data, Mapping)
+            and "inductance_uH" not in data
+            and "ripple_fraction" not in data
+        ):
+            return {**data, "ripple_fraction": DEFAULT_RIPPLE_FRACTION}
+        return data
+
+
+class Limits(_Section):
+    """``[limits]``: environment and constraints every design must meet."""
+
+    ambient_C: Celsius = 40.0
+    max_temperature_C: Celsius = 100.0
+    max_height_mm: PositiveNumber | None = None
+    max_footprint_mm2: PositiveNumber | None = None
+    flux_margin: Fraction = 0.8
+    max_fill_factor: Fraction = 0.5
+    max_loss_W: PositiveNumber | None = None
+
+
+Objective = Literal["volume", "loss", "cost", "mass"]
+
+
+class Search(_Section):
+    """``[search]``: strategy, objectives and the bounds of the design space."""
+
+    strategy: Literal["exhaustive", "optuna"] = "exhaustive"
+    objectives: Annotated[tuple[Objective, ...], Field(min_length=1, max_length=4)] = (
+        "volume",
+        "loss",
+        "cost",
+    )
+    turns_min: Count = 1
+    turns_max: Count
+    stack_min: Count = 1
+    stack_max: Count = 1
+    parallel_min: Count = 1
+    parallel_max: Count = 1
+    gap: Literal["solve", "grid"] = "solve"
+    gap_grid_mm: tuple[PositiveNumber, ...] = ()
+    cores: tuple[Name, ...] | None = None
+    materials: tuple[Name, ...] | None = None
+    wires: tuple[Name, ...] | None = None
+    harmonics: Annotated[int, Strict(), Field(ge=15, le=200)] = 25
+    trials: Count = 2000
+    seed: Annotated[int, Strict(), Field(ge=0)] = 0
+    sampler: Literal["nsga2", "tpe"] = "nsga2"
+    batch_size: Count = 64
+
+
+class CatalogRef(_Section):
+    """``[catalog]``: the catalogue folder, relative to the study file."""
+
+    path: Path
+
+    @field_validator("path", mode="before")
+    @classmethod
+    def _text_only(cls, value: Any) -> Any:
+        if not isinstance(value, str | Path):
+            raise ValueError(f"expected a folder path in quotes, got {_shown(value)}")
+        if isinstance(value, str) and not value.strip():
+            raise ValueError("must name a folder; got an empty string")
+        return value
+
+    @field_validator("path", mode="after")
+    @classmethod
+    def _existing_folder(cls, value: Path, info: ValidationInfo) -> Path:
+        base = Path((info.context or {}).get("study_dir", Path.cwd()))
+        folder = (base / value.expanduser()).resolve()
+        if not folder.exists():
+            raise ValueError(
+                f"catalogue folder '{value}' does not exist (looked for {folder}; "
+                "the path is relative to the study file)"
+            )
+        if not folder.is_dir():
+            raise ValueError(f"catalogue path '{value}' is a file; it must be a folder ({folder})")
+        return folder
+
+
+class ModelChoices(_Section):
+    """``[model]``: which interchangeable physics models to use."""
+
+    fringing: Literal["mclyman", "muhlethaler", "ideal"] = "mclyman"
+    thermal: Literal["convection", "mclyman", "ferrite_rth"] = "convection"
+    emissivity: Fraction = 0.9
+
+
+class Cost(_Section):
+    """``[cost]``: labour cost and the currency label used in reports."""
+
+    labour_per_turn: Annotated[float, Strict(), AllowInfNan(False), Field(ge=0)] = 0.02
+    currency: Annotated[str, Strict(), StringConstraints(min_length=1, max_length=10)] = "cu"
+
+
+class Study(_Section):
+    """A validated study. Build it with `load_study` (or `parse_study`).
+
+    Besides its sections it exposes `path`, `source_text`, `name`, `frequency_Hz` and
+    the derived `required_inductance_H`.
+    """
+
+    study: StudyInfo
+    converter: Converter
+    operating_points: Annotated[tuple[OperatingPoint, ...], Field(min_length=1)]
+    inductor: Inductor = Inductor()
+    limits: Limits = Limits()
+    search: Search
+    catalog: CatalogRef
+    model: ModelChoices = ModelChoices()
+    cost: Cost = Cost()
+
+    _path: Path | None = PrivateAttr(default=None)
+    _source_text: str = PrivateAttr(default="")
+
+    @model_validator(mode="after")
+    def _consistent(self) -> Study:
+        faults = _consistency_faults({name: getattr(self, name) for name in _SECTION_MODELS})
+        if faults:
+            raise ValueError("; ".join(f"{field}: {message}" for field, message in faults))
+        return self
+
+    @property
+    def path(self) -> Path | None:
+        """Absolute path of the study file (None when not built from a file)."""
+        return self._path
+
+    @property
+    def source_text(self) -> str:
+        """The study file's text as read, kept for the run record."""
+        return self._source_text
+
+    @property
+    def name(self) -> str:
+        """The study's slug, used in run-folder names."""
+        return self.study.name
+
+    @property
+    def title(self) -> str:
+        """The study's free-text title."""
+        return self.study.title
+
+    @property
+    def frequency_Hz(self) -> float:
+        """Switching frequency [Hz]."""
+        return self.converter.switching_frequency_kHz * 1e3
+
+    @property
+    def ripple_point(self) -> OperatingPoint | None:
+        """The operating point the ripple fraction refers to (None when L is given).
+
+        Without an explicit ``ripple_point`` it is the point that needs the largest
+        inductance for the ripple fraction, so the ripple stays within the fraction at
+        every point.
+        """
+        if self.inductor.inductance_uH is not None:
+            return None
+        if self.inductor.ripple_point is not None:
+            return next(p for p in self.operating_points if p.name == self.inductor.ripple_point)
+        needed = self._ripple_inductances(self.operating_points)
+        return self.operating_points[int(np.argmax(needed))]
+
+    @property
+    def required_inductance_H(self) -> float:
+        """Inductance the design must provide at low current [H].
+
+        Either ``inductance_uH`` or, from the ripple fraction r at the ripple point,
+        ``L = V_r D / (f r I_L)`` with the CCM relations of Erickson & Maksimović,
+        Fundamentals of Power Electronics, ch. 2 (see
+        `optimag.spec.waveform.ccm_ripple_inductance`).
+        """
+        if self.inductor.inductance_uH is not None:
+            return self.inductor.inductance_uH * 1e-6
+        point = self.ripple_point
+        assert point is not None
+        return float(self._ripple_inductances((point,))[0])
+
+    def _ripple_inductances(self, points: tuple[OperatingPoint, ...]) -> np.ndarray:
+        return ccm_ripple_inductance(
+            self.converter.topology,
+            np.array([p.input_V for p in points]),
+            np.array([p.output_V for p in points]),
+            np.array([p.load_A for p in points]),
+            self.frequency_Hz,
+            self.inductor.ripple_fraction,
+        )
+
+
+_SECTION_MODELS: dict[str, type[_Section]] = {
+    "study": StudyInfo,
+    "converter": Converter,
+    "operating_points": OperatingPoint,
+    "inductor": Inductor,
+    "limits": Limits,
+    "search": Search,
+    "catalog": CatalogRef,
+    "model": ModelChoices,
+    "cost": Cost,
+}
+_REQUIRED_SECTIONS = ("study", "converter", "operating_points", "search", "catalog")
+
+
+def load_study(path: str | os.PathLike[str]) -> Study:
+    """Read and validate a study file.
+
+    Parameters
+    ----------
+    path : str or path-like  The study's TOML file [-]
+
+    Returns
+    -------
+    Study  Frozen and fully validated; ``study.catalog.path`` is absolute.
+
+    Raises
+    ------
+    InputError
+        Listing every problem found, each with file, line, dotted key and message.
+    """
+    shown = str(path)
+    file = Path(path)
+    if not file.exists():
+        raise InputError([Problem(shown, None, "", "study file not found")])
+    if file.is_dir():
+        raise InputError([Problem(shown, None, "", "is a folder; expected a study .toml file")])
+    try:
+        text = file.read_bytes().decode("utf-8")
+    except UnicodeDecodeError as error:
+        raise InputError(
+            [Problem(shown, None, "", f"not UTF-8 text (byte {error.start}); save it as UTF-8")]
+        ) from None
+    except OSError as error:
+        raise InputError([Problem(shown, None, "", f"cannot read: {error.strerror}")]) from None
+    return parse_study(text, file, shown_name=shown)
+
+
+def parse_study(
+    source_text: str, path: str | os.PathLike[str], shown_name: str | None = None
+) -> Study:
+    """Validate study text as if read from `path`.
+
+    Parameters
+    ----------
+    source_text : str  TOML text of the study [-]
+    path : str or path-like  Where the text belongs; relative catalogue paths are
+        resolved from its folder [-]
+    shown_name : str, optional  File name used in problems; default ``str(path)`` [-]
+
+    Returns
+    -------
+    Study
+
+    Raises
+    ------
+    InputError
+        Listing every problem found.
+    """
+    shown = str(path) if shown_name is None else shown_name
+    file = Path(path).resolve()
+    lines = _LineIndex(source_text)
+
+    def problem(field: str, message: str) -> Problem:
+        return Problem(shown, lines.line_of(_split_field(field)), field, message)
+
+    try:
+        document = tomllib.loads(source_text)
+    except tomllib.TOMLDecodeError as error:
+        line, message = _toml_error_position(str(error), source_text)
+        raise InputError([Problem(shown, line, "", f"not valid TOML: {message}")]) from None
+
+    problems: list[Problem] = []
+    sections: dict[str, Any] = {}
+    context = {"study_dir": file.parent}
+
+    for key in document:
+        if key not in _SECTION_MODELS:
+            problems.append(problem(key, _unknown_top_level(key)))
+
+    for name, model in _SECTION_MODELS.items():
+        if name not in document:
+            if name in _REQUIRED_SECTIONS:
+                header = f"[[{name}]]" if name == "operating_points" else f"[{name}]"
+                problems.append(problem(name, f"missing section {header}"))
+            else:
+                sections[name] = model()
+            continue
+        content = document[name]
+        if name == "operating_points":
+            sections[name] = _validate_points(content, problems, problem)
+            continue
+        if not isinstance(content, dict):
+            problems.append(
+                problem(name, f"expected a table written [{name}], got {_shown(content)}")
+            )
+            continue
+        try:
+            sections[name] = model.model_validate(content, context=context)
+        except ValidationError as error:
+            problems.extend(
+                problem(field, message) for field, message in _translate(error, name, model)
+            )
+
+    problems.extend(problem(field, message) for field, message in _consistency_faults(sections))
+    if problems:
+        raise InputError(problems)
+
+    study = Study.model_validate(sections, context=context)
+    study._path = file
+    study._source_text = source_text
+    return study
+
+
+def _validate_points(content: Any, problems: list[Problem], problem: Any) -> Any:
+    if isinstance(content, dict):
+        problems.append(
+            problem(
+                "operating_points",
+                "must be an array of tables: write each point under its own "
+                "[[operating_points]] header",
+            )
+        )
+        return None
+    if not isinstance(content, list):
+        problems.append(
+            problem(
+                "operating_points", f"expected [[operating_points]] tables, got {_shown(content)}"
+            )
+        )
+        return None
+    if not content:
+        problems.append(problem("operating_points", "at least one operating point is required"))
+        return None
+    points = []
+    for index, entry in enumerate(content):
+        prefix = f"operating_points[{index}]"
+        if not isinstance(entry, dict):
+            problems.append(problem(prefix, f"expected a table, got {_shown(entry)}"))
+            continue
+        try:
+            points.append(OperatingPoint.model_validate(entry))
+        except ValidationError as error:
+            problems.extend(
+                problem(field, message)
+                for field, message in _translate(error, prefix, OperatingPoint)
+            )
+    return tuple(points) if len(points) == len(content) else None
+
+
+def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
+    """Checks that tie keys together; a section that failed its own checks is None."""
+    faults: list[tuple[str, str]] = []
+    points = sections.get("operating_points")
+    converter = sections.get("converter")
+    inductor = sections.get("inductor")
+    limits = sections.get("limits")
+    search = sections.get("search")
+
+    if points:
+        first_index: dict[str, int] = {}
+        for index, point in enumerate(points):
+            if point.name in first_index:
+                faults.append(
+                    (
+                        f"operating_points[{index}].name",
+                        f"duplicate operating-point name '{point.name}' (first used by "
+                        f"operating_points[{first_index[point.name]}]); names must be unique",
+                    )
+                )
+            else:
+                first_index[point.name] = index
+        total = math.fsum(p.time_share for p in points)
+        if abs(total - 1.0) > TIME_SHARE_TOLERANCE:
+            faults.append(
+                (
+                    "operating_points",
+                    f"time_share values sum to {total:.9g}; they must sum to 1 "
+                    f"(within {TIME_SHARE_TOLERANCE:g})",
+                )
+            )
+
+    if points and converter:
+        for index, point in enumerate(points):
+            field = f"operating_points[{index}].output_V"
+            vi, vo = point.input_V, point.output_V
+            if converter.topology == "buck" and not vo < vi:
+                faults.append(
+                    (
+                        field,
+                        f"a buck steps down: output_V must be below input_V; got output_V = "
+                        f"{vo:g} V, input_V = {vi:g} V at point '{point.name}'",
+                    )
+                )
+            if converter.topology == "boost" and not vo > vi:
+                faults.append(
+                    (
+                        field,
+                        f"a boost steps up: output_V must be above input_V; got output_V = "
+                        f"{vo:g} V, input_V = {vi:g} V at point '{point.name}'",
+                    )
+                )
+
+    if inductor:
+        if inductor.inductance_uH is not None and inductor.ripple_fraction is not None:
+            faults.append(
+                (
+                    "inductor",
+                    "give either inductance_uH or ripple_fraction (with ripple_point), not both",
+                )
+            )
+        elif inductor.inductance_uH is not None and inductor.ripple_point is not None:
+            faults.append(
+                (
+                    "inductor.ripple_point",
+                    "ripple_point only applies with ripple_fraction; remove it or give "
+                    "ripple_fraction instead of inductance_uH",
+                )
+            )
+        elif inductor.ripple_point is not None and points:
+            names = [p.name for p in points]
+            if inductor.ripple_point not in names:
+                faults.append(
+                    (
+                        "inductor.ripple_point",
+                        f"'{inductor.ripple_point}' is not an operating point (known: "
+                        + ", ".join(f"'{n}'" for n in names)
+                        + f"){_suggestion(inductor.ripple_point, names)}",
+                    )
+                )
+
+    if limits and not limits.max_temperature_C > limits.ambient_C:
+        faults.append(
+            (
+                "limits.max_temperature_C",
+                f"must be above ambient_C ({limits.ambient_C:g} °C); got "
+                f"{limits.max_temperature_C:g} °C",
+            )
+        )
+
+    if search:
+        for low, high in (
+            ("turns_min", "turns_max"),
+            ("stack_min", "stack_max"),
+            ("parallel_min", "parallel_max"),
+        ):
+            if getattr(search, low) > getattr(search, high):
+                faults.append(
+                    (
+                        f"search.{low}",
+                        f"{low} ({getattr(search, low)}) exceeds {high} "
+                        f"({getattr(search, high)}); the range would be empty",
+                    )
+                )
+        repeated = sorted({o for o in search.objectives if search.objectives.count(o) > 1})
+        if repeated:
+            faults.append(
+                (
+                    "search.objectives",
+                    "objectives must be distinct; repeated: "
+                    + ", ".join(f"'{o}'" for o in repeated),
+                )
+            )
+        if search.gap == "grid" and not search.gap_grid_mm:
+            faults.append(
+                (
+                    "search.gap_grid_mm",
+                    'required (a non-empty list of spacer thicknesses in mm) when gap = "grid"',
+                )
+            )
+    return faults
+
+
+# --- turning pydantic errors into plain messages -------------------------------------
+
+
+def _translate(
+    error: ValidationError, prefix: str, model: type[BaseModel]
+) -> list[tuple[str, str]]:
+    faults = []
+    for item in error.errors(include_url=False):
+        loc = tuple(item["loc"])
+        field = _join_field(prefix, loc)
+        if item["type"] == "extra_forbidden":
+            faults.append((field, _unknown_key(str(loc[-1]), prefix, model)))
+        else:
+            faults.append((field, _describe(item, field)))
+    return faults
+
+
+def _describe(item: Mapping[str, Any], field: str) -> str:
+    kind = item["type"]
+    ctx = item.get("ctx") or {}
+    got = item.get("input")
+    if kind == "missing":
+        return "required key is missing"
+    if kind in ("float_type", "float_parsing"):
+        return f"expected a number, got {_shown(got)}"
+    if kind in ("int_type", "int_parsing", "int_from_float"):
+        return f"expected a whole number, got {_shown(got)}"
+    if kind == "finite_number":
+        return f"must be a finite number, got {_shown(got)}"
+    bounds = {
+        "greater_than": ("gt", ">"),
+        "greater_than_equal": ("ge", ">="),
+        "less_than": ("lt", "<"),
+        "less_than_equal": ("le", "<="),
+    }
+    if kind in bounds:
+        key, symbol = bounds[kind]
+        return f"must be {symbol} {_number(ctx[key])}, got {_shown(got)}"
+    if kind == "literal_error":
+        return f"must be one of {ctx.get('expected')}, got {_shown(got)}"
+    if kind == "string_type":
+        return f"expected text in quotes, got {_shown(got)}"
+    if kind == "string_pattern_mismatch":
+        return (
+            "must use only lowercase letters, digits and '-' (it names the run folder), "
+            f"got {_shown(got)}"
+        )
+    if kind == "string_too_short":
+        return f"must not be empty (at least {ctx.get('min_length')} character(s))"
+    if kind == "string_too_long":
+        return f"must have at most {ctx.get('max_length')} characters, got {len(str(got))}"
+    if kind == "too_short":
+        return f"needs at least {ctx.get('min_length')} entry(ies), got {ctx.get('actual_length')}"
+    if kind == "too_long":
+        return f"allows at most {ctx.get('max_length')} entries, got {ctx.get('actual_length')}"
+    if kind in ("tuple_type", "list_type"):
+        return f"expected a list [ ... ], got {_shown(got)}"
+    if kind in ("model_type", "model_attributes_type", "dict_type"):
+        return f"expected a table, got {_shown(got)}"
+    if kind == "value_error":
+        return str(ctx.get("error", item.get("msg", "invalid value")))
+    return f"{item.get('msg', 'invalid value')}, got {_shown(got)}"
+
+
+def _unknown_key(key: str, prefix: str, model: type[BaseModel]) -> str:
+    known = list(model.model_fields)
+    section = prefix.split("[")[0]
+    hint = _suggestion(key, known)
+    if not hint:
+        home = [s for s, m in _SECTION_MODELS.items() if key in m.model_fields and s != section]
+        if home:
+            return f"unknown key '{key}' in [{section}]; it belongs in [{home[0]}]"
+        return f"unknown key '{key}'; allowed keys: " + ", ".join(known)
+    return f"unknown key '{key}'{hint}"
+
+
+def _unknown_top_level(key: str) -> str:
+    hint = _suggestion(key, list(_SECTION_MODELS))
+    if hint:
+        return f"unknown section [{key}]{hint}"
+    home = [s for s, m in _SECTION_MODELS.items() if key in m.model_fields]
+    if home:
+        return f"key '{key}' is outside any section; it belongs in [{home[0]}]"
+    return f"unknown section [{key}]; known sections: " + ", ".join(_SECTION_MODELS)
+
+
+def _suggestion(word: str, candidates: list[str]) -> str:
+    close = difflib.get_close_matches(word, candidates, n=1, cutoff=0.6)
+    if not close:
+        lowered = {c.lower(): c for c in candidates}
+        close = difflib.get_close_matches(word.lower(), list(lowered), n=1, cutoff=0.6)
+        close = [lowered[c] for c in close]
+    return f"; did you mean '{close[0]}'?" if close else ""
+
+
+def _shown(value: Any) -> str:
+    if isinstance(value, bool):
+        return f"the boolean {str(value).lower()}"
+    if isinstance(value, str):
+        text = value if len(value) <= 40 else value[:37] + "..."
+        return f"the text {text!r}"
+    if isinstance(value, float):
+        if math.isnan(value):
+            return "nan"
+        if math.isinf(value):
+            return "inf" if value > 0 else "-inf"
+        return repr(value)
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, list | tuple):
+        return "a list"
+    return f"a {type(value).__name__} value"
+
+
+def _number(value: Any) -> str:
+    return f"{value:g}" if isinstance(value, float) else str(value)
+
+
+def _join_field(prefix: str, loc: tuple[Any, ...]) -> str:
+    field = prefix
+    for part in loc:
+        field += f"[{part}]" if isinstance(part, int) else (f".{part}" if field else str(part))
+    return field
+
+
+def _split_field(field: str) -> tuple[Any, ...]:
+    parts: list[Any] = []
+    for name, index in re.findall(r"([^.\[\]]+)|\[(\d+)\]", field):
+        parts.append(int(index) if index else name)
+    return tuple(parts)
+
+
+def _toml_error_position(message: str, text: str) -> tuple[int | None, str]:
+    found = re.search(r"\s*\(at line (\d+), column (\d+)\)", message)
+    if found:
+        plain = message[: found.start()] + message[found.end() :]
+        return int(found.group(1)), f"{plain.strip()} (column {found.group(2)})"
+    if "(at end of document)" in message:
+        return max(1, len(text.splitlines())), message.replace(" (at end of document)", "") + (
+            " at the end of the file"
+        )
+    return None, message
+
+
+_ARRAY_HEADER = re.compile(r"^\[\[\s*([^\[\]]+?)\s*\]\]")
+_TABLE_HEADER = re.compile(r"^\[\s*([^\[\]]+?)\s*\]")
+_KEY_LINE = re.compile(
+    r"""^((?:"[^"]*"|'[^']*'|[A-Za-z0-9_-]+)(?:\s*\.\s*(?:"[^"]*"|'[^']*'|[A-Za-z0-9_-]+))*)\s*="""
+)
+
+
+def _dotted(text: str) -> tuple[str, ...]:
+    parts = re.findall(r"""\s*("[^"]*"|'[^']*'|[A-Za-z0-9_-]+)\s*""", text)
+    return tuple(p[1:-1] if p[:1] in "\"'" else p for p in parts)
+
+
+class _LineIndex:
+    """Line of each table header and key in TOML text, found by scanning the lines.
+
+    A best effort: it understands headers, arrays of tables and (dotted) keys, and
+    skips multi-line strings; a key it cannot place falls back to its table's header.
+    """
+
+    def __init__(self, text: str) -> None:
+        self.lines: dict[tuple[Any, ...], int] = {}
+        counts: dict[tuple[str, ...], int] = {}
+        table: tuple[Any, ...] = ()
+        in_multiline = False
+        for number, raw in enumerate(text.splitlines(), start=1):
+            line = raw.strip()
+            quotes = line.count('"""') + line.count("'''")
+            if in_multiline:
+                in_multiline = quotes % 2 == 0
+                continue
+            if match := _ARRAY_HEADER.match(line):
+                name = _dotted(match.group(1))
+                index = counts.get(name, 0)
+                counts[name] = index + 1
+                table = (*name, index)
+                self.lines.setdefault(name, number)
+                self.lines.setdefault(table, number)
+            elif match := _TABLE_HEADER.match(line):
+                table = _dotted(match.group(1))
+                self.lines.setdefault(table, number)
+            elif match := _KEY_LINE.match(line):
+                self.lines.setdefault((*table, *_dotted(match.group(1))), number)
+            in_multiline = quotes % 2 == 1
+
+    def line_of(self, path: tuple[Any, ...]) -> int | None:
+        for length in range(len(path), 0, -1):
+            if path[:length] in self.lines:
+                return self.lines[path[:length]]
+        return None
