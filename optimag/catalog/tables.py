@@ -1,0 +1,1043 @@
+"""Catalogue tables: schema, loader and validation.
+
+A catalogue is a folder holding three CSV tables, ``cores.csv``, ``materials.csv`` and
+``wires.csv``, with the fixed, unit-suffixed column names of :data:`TABLES` (see
+``catalogs/README.md`` for the meaning of every column). Sizes are stored in the units their
+names state (mm, mm², mm³, g, kHz, T); converting to SI is the model's job.
+
+Validation collects every problem of all three files before giving up, so that a user fixes
+a broken catalogue in one pass. Each problem names the file, the CSV line (header = line 1),
+the column, and the row's id where one is known.
+
+Choices made here:
+
+* Every column of the schema must be present in the header, even where all its cells are
+  empty (a catalogue of round wires still has the foil columns); unknown columns are errors,
+  with the closest known name suggested, because a wrong unit suffix (``Ae_cm2``) must not be
+  silently ignored.
+* A cell that does not apply to the row's family or kind must be empty. In particular a
+  ferrite row with roll-off coefficients is rejected rather than silently ignored: it usually
+  means the ``kind`` is wrong.
+* ``strands`` may be empty for a foil (a foil is one conductor); it is then stored as 1 so the
+  column keeps an integer dtype.
+* Blank lines are skipped; lines starting with ``#`` are errors (notes belong in a README).
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import hashlib
+import io
+import math
+import re
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Literal
+
+import numpy as np
+import pandas as pd
+
+from optimag.errors import InputError, Problem
+
+ColumnKind = Literal["text", "choice", "float", "int"]
+
+# Only plain decimal notation: float() would also accept "nan", "inf", "1_000" and "0x10".
+_NUMBER = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
+_NON_FINITE_WORDS = frozenset(
+    {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
+)
+
+VE_TOLERANCE = 0.10
+WINDOW_AREA_TOLERANCE = 0.15
+AMIN_MARGIN = 1.001
+#: Temperatures [°C] over which the core-loss temperature factor must stay positive.
+LOSS_FACTOR_CHECK_RANGE_C = (0.0, 150.0)
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of a catalogue table.
+
+    Parameters
+    ----------
+    name : column name as written in the CSV header, unit suffix included
+    kind : "text" (free text), "choice" (the row's family/kind), "float" or "int"
+    description : meaning and unit, for error messages and documentation
+    lower, upper : bounds of the allowed range (None = unbounded)
+    lower_inclusive, upper_inclusive : whether the bound itself is allowed
+    required_for : families/kinds whose rows must fill this cell (None = all)
+    allowed_for : families/kinds whose rows may fill this cell (None = all)
+    """
+
+    name: str
+    kind: ColumnKind
+    description: str
+    lower: float | None = None
+    upper: float | None = None
+    lower_inclusive: bool = False
+    upper_inclusive: bool = False
+    required_for: frozenset[str] | None = None
+    allowed_for: frozenset[str] | None = None
+
+    def is_required(self, selector_value: str | None) -> bool:
+        if self.required_for is None:
+            return True
+        return selector_value is not None and selector_value in self.required_for
+
+    def is_allowed(self, selector_value: str | None) -> bool:
+        if self.allowed_for is None or selector_value is None:
+            return True
+        return selector_value in self.allowed_for
+
+    def range_text(self) -> str:
+        parts = []
+        if self.lower is not None:
+            parts.append(f"{self.lower:g} {'<=' if self.lower_inclusive else '<'}")
+        parts.append(self.name)
+        if self.upper is not None:
+            parts.append(f"{'<=' if self.upper_inclusive else '<'} {self.upper:g}")
+        return " ".join(parts)
+
+    def in_range(self, value: float) -> bool:
+        if self.lower is not None and (
+            value < self.lower or (value == self.lower and not self.lower_inclusive)
+        ):
+            return False
+        return not (
+            self.upper is not None
+            and (value > self.upper or (value == self.upper and not self.upper_inclusive))
+        )
+
+
+RowValues = dict[str, Any]
+RowCheck = Callable[[RowValues], list[tuple[str, str]]]
+
+
+@dataclass(frozen=True)
+class Table:
+    """Schema of one catalogue table.
+
+    Parameters
+    ----------
+    file_name : name of the CSV file inside the catalogue folder
+    noun : what one row is ("core", "material", "wire"), used in messages
+    selector : the column that decides which other columns apply ("family" or "kind")
+    choices : allowed values of the selector column
+    columns : every column, in the canonical order
+    row_checks : physical-consistency checks across the columns of one row
+    """
+
+    file_name: str
+    noun: str
+    selector: str
+    choices: tuple[str, ...]
+    columns: tuple[Column, ...]
+    row_checks: tuple[RowCheck, ...]
+
+    @property
+    def column_names(self) -> tuple[str, ...]:
+        return tuple(column.name for column in self.columns)
+
+
+def _positive(
+    name: str,
+    description: str,
+    required_for: frozenset[str] | None = None,
+    allowed_for: frozenset[str] | None = None,
+) -> Column:
+    return Column(
+        name, "float", description, lower=0.0, required_for=required_for, allowed_for=allowed_for
+    )
+
+
+def _non_negative(
+    name: str,
+    description: str,
+    required_for: frozenset[str] | None = None,
+    allowed_for: frozenset[str] | None = None,
+) -> Column:
+    return Column(
+        name,
+        "float",
+        description,
+        lower=0.0,
+        lower_inclusive=True,
+        required_for=required_for,
+        allowed_for=allowed_for,
+    )
+
+
+def _relative_deviation(value: float, expected: float) -> float:
+    # Absurdly large sizes can overflow the product; report them as infinitely far off
+    # rather than letting NaN slip through the comparison.
+    if expected == 0.0 or not math.isfinite(expected):
+        return math.inf
+    return abs(value - expected) / abs(expected)
+
+
+# --- cores -----------------------------------------------------------------------------
+
+
+def _check_core_volume(row: RowValues) -> list[tuple[str, str]]:
+    ae, le, ve = row.get("Ae_mm2"), row.get("le_mm"), row.get("Ve_mm3")
+    if ae is None or le is None or ve is None:
+        return []
+    expected = float(ae) * float(le)
+    deviation = _relative_deviation(float(ve), expected)
+    if deviation <= VE_TOLERANCE:
+        return []
+    return [
+        (
+            "Ve_mm3",
+            f"Ve_mm3 = {ve:g} is {100 * deviation:.0f} % away from Ae_mm2·le_mm = "
+            f"{expected:g}; expected within {100 * VE_TOLERANCE:.0f} %",
+        )
+    ]
+
+
+def _check_core_minimum_area(row: RowValues) -> list[tuple[str, str]]:
+    ae, amin = row.get("Ae_mm2"), row.get("Amin_mm2")
+    if ae is None or amin is None or float(amin) <= float(ae) * AMIN_MARGIN:
+        return []
+    return [
+        (
+            "Amin_mm2",
+            f"Amin_mm2 = {amin:g} is larger than Ae_mm2 = {ae:g}; the smallest cross-section "
+            "cannot exceed the effective area",
+        )
+    ]
+
+
+def _check_core_window(row: RowValues) -> list[tuple[str, str]]:
+    family = row.get("family")
+    area, breadth, width = (
+        row.get("window_area_mm2"),
+        row.get("window_breadth_mm"),
+        row.get("window_width_mm"),
+    )
+    found: list[tuple[str, str]] = []
+    if family == "toroid":
+        if area is not None and width is not None:
+            expected = math.pi * (2.0 * float(width)) ** 2 / 4.0
+            deviation = _relative_deviation(float(area), expected)
+            if deviation > WINDOW_AREA_TOLERANCE:
+                found.append(
+                    (
+                        "window_area_mm2",
+                        f"window_area_mm2 = {area:g} is {100 * deviation:.0f} % away from the "
+                        f"inner-hole area π·(2·window_width_mm)²/4 = {expected:.4g}; expected "
+                        f"within {100 * WINDOW_AREA_TOLERANCE:.0f} % (for a toroid "
+                        "window_width_mm is ID/2)",
+                    )
+                )
+        if breadth is not None and width is not None:
+            expected = math.pi * 2.0 * float(width)
+            deviation = _relative_deviation(float(breadth), expected)
+            if deviation > WINDOW_AREA_TOLERANCE:
+                found.append(
+                    (
+                        "window_breadth_mm",
+                        f"window_breadth_mm = {breadth:g} is {100 * deviation:.0f} % away from "
+                        f"the inner circumference π·2·window_width_mm = {expected:.4g}; expected "
+                        f"within {100 * WINDOW_AREA_TOLERANCE:.0f} %",
+                    )
+                )
+    elif family in ("E", "pot") and None not in (area, breadth, width):
+        expected = float(breadth) * float(width)
+        deviation = _relative_deviation(float(area), expected)
+        if deviation > WINDOW_AREA_TOLERANCE:
+            found.append(
+                (
+                    "window_area_mm2",
+                    f"window_area_mm2 = {area:g} is {100 * deviation:.0f} % away from "
+                    f"window_breadth_mm·window_width_mm = {expected:.4g}; expected within "
+                    f"{100 * WINDOW_AREA_TOLERANCE:.0f} %",
+                )
+            )
+    return found
+
+
+def _check_core_bobbin(row: RowValues) -> list[tuple[str, str]]:
+    family, wall = row.get("family"), row.get("bobbin_wall_mm")
+    if wall is None:
+        return []
+    wall = float(wall)
+    if family == "toroid":
+        if wall != 0.0:
+            return [
+                (
+                    "bobbin_wall_mm",
+                    f"bobbin_wall_mm = {wall:g} but a toroid is wound without a bobbin; write 0",
+                )
+            ]
+        return []
+    breadth, width = row.get("window_breadth_mm"), row.get("window_width_mm")
+    if width is not None and wall >= float(width):
+        return [
+            (
+                "bobbin_wall_mm",
+                f"bobbin_wall_mm = {wall:g} leaves no room for the winding: it must be smaller "
+                f"than window_width_mm = {width:g}",
+            )
+        ]
+    if breadth is not None and 2.0 * wall >= float(breadth):
+        return [
+            (
+                "bobbin_wall_mm",
+                f"bobbin_wall_mm = {wall:g} leaves no room for the winding: twice the wall must "
+                f"be smaller than window_breadth_mm = {breadth:g}",
+            )
+        ]
+    return []
+
+
+# --- materials -------------------------------------------------------------------------
+
+
+def _check_material_saturation(row: RowValues) -> list[tuple[str, str]]:
+    hot, cold = row.get("bsat_100C_T"), row.get("bsat_25C_T")
+    if hot is None or cold is None or float(hot) <= float(cold):
+        return []
+    return [
+        (
+            "bsat_100C_T",
+            f"bsat_100C_T = {hot:g} is larger than bsat_25C_T = {cold:g}; saturation flux "
+            "density falls with temperature",
+        )
+    ]
+
+
+def _check_material_frequency_range(row: RowValues) -> list[tuple[str, str]]:
+    low, high = row.get("f_min_kHz"), row.get("f_max_kHz")
+    if low is None or high is None or float(low) < float(high):
+        return []
+    return [
+        (
+            "f_max_kHz",
+            f"f_max_kHz = {high:g} must be greater than f_min_kHz = {low:g}",
+        )
+    ]
+
+
+def _check_material_temperature_factor(row: RowValues) -> list[tuple[str, str]]:
+    coefficients = [row.get(name) for name in ("ct0", "ct1_per_C", "ct2_per_C2")]
+    if any(value is None for value in coefficients):
+        return []
+    ct0, ct1, ct2 = (float(value) for value in coefficients)
+    low, high = LOSS_FACTOR_CHECK_RANGE_C
+    candidates = [low, high]
+    if ct2 != 0.0:
+        vertex = ct1 / (2.0 * ct2)
+        if low < vertex < high:
+            candidates.append(vertex)
+    worst_t = min(candidates, key=lambda t: ct0 - ct1 * t + ct2 * t * t)
+    worst = ct0 - ct1 * worst_t + ct2 * worst_t * worst_t
+    if not math.isfinite(worst):
+        return [("ct0", "core-loss temperature factor overflows; the coefficients are too large")]
+    if worst > 0.0:
+        return []
+    return [
+        (
+            "ct0",
+            f"core-loss temperature factor ct0 − ct1·T + ct2·T² = {worst:.3g} at T = "
+            f"{worst_t:g} °C; it must stay positive from {low:g} to {high:g} °C",
+        )
+    ]
+
+
+# --- wires -----------------------------------------------------------------------------
+
+
+def _check_wire_conductor(row: RowValues) -> list[tuple[str, str]]:
+    kind = row.get("kind")
+    strands = row.get("strands")
+    outer = row.get("outer_diameter_mm")
+    found: list[tuple[str, str]] = []
+    if kind == "round":
+        bare = row.get("bare_diameter_mm")
+        if bare is not None and outer is not None and float(outer) <= float(bare):
+            found.append(
+                (
+                    "outer_diameter_mm",
+                    f"outer_diameter_mm = {outer:g} must be larger than bare_diameter_mm = "
+                    f"{bare:g} (it includes the insulation)",
+                )
+            )
+        if strands is not None and strands != 1:
+            found.append(
+                (
+                    "strands",
+                    f"strands = {strands} but a round wire has 1 strand; use kind 'litz' for a "
+                    "stranded bundle",
+                )
+            )
+    elif kind == "litz":
+        if strands is not None and strands < 2:
+            found.append(("strands", f"strands = {strands} but a litz wire has at least 2"))
+        strand = row.get("strand_diameter_mm")
+        if strands is not None and strand is not None and outer is not None:
+            copper = float(strands) * math.pi * float(strand) ** 2 / 4.0
+            bundle = math.pi * float(outer) ** 2 / 4.0
+            if copper >= bundle:
+                found.append(
+                    (
+                        "outer_diameter_mm",
+                        f"{strands} strands of {strand:g} mm (copper {copper:.4g} mm²) do not fit "
+                        f"in a bundle of outer_diameter_mm = {outer:g} ({bundle:.4g} mm²)",
+                    )
+                )
+    elif kind == "foil" and strands is not None and strands != 1:
+        found.append(
+            (
+                "strands",
+                f"strands = {strands} but a foil is one conductor; write 1 or leave it empty",
+            )
+        )
+    return found
+
+
+_CORE_FAMILIES = ("E", "pot", "toroid")
+_MATERIAL_KINDS = ("ferrite", "powder")
+_WIRE_KINDS = ("round", "litz", "foil")
+_POWDER = frozenset({"powder"})
+_ROUND = frozenset({"round"})
+_LITZ = frozenset({"litz"})
+_FOIL = frozenset({"foil"})
+
+CORES = Table(
+    file_name="cores.csv",
+    noun="core",
+    selector="family",
+    choices=_CORE_FAMILIES,
+    columns=(
+        Column("id", "text", "unique name of the core set"),
+        Column("family", "choice", "shape family: E, pot or toroid"),
+        _positive("Ae_mm2", "effective cross-section of one set [mm²]"),
+        _positive("le_mm", "effective magnetic path length [mm]"),
+        _positive("Ve_mm3", "effective volume of one set [mm³]"),
+        _positive("Amin_mm2", "smallest cross-section along the path [mm²]"),
+        _positive("window_area_mm2", "winding window area [mm²]"),
+        _positive("window_breadth_mm", "winding length along the leg [mm]"),
+        _positive("window_width_mm", "radial depth available for the winding build [mm]"),
+        _positive("leg_width_mm", "centre-leg width / post diameter / ring thickness [mm]"),
+        _positive("leg_depth_mm", "centre-leg depth / post diameter / ring height [mm]"),
+        _non_negative("bobbin_wall_mm", "bobbin wall thickness, 0 for a toroid [mm]"),
+        _positive("length_mm", "outer length of one set on the board [mm]"),
+        _positive("width_mm", "outer width of one set on the board, stacking direction [mm]"),
+        _positive("height_mm", "outer height of one set on the board [mm]"),
+        _positive("surface_mm2", "outer surface of the bare set [mm²]"),
+        _positive("mass_g", "mass of one set at 4800 kg/m³ [g]"),
+        _non_negative("price", "price of one set [currency units]"),
+        Column(
+            "max_stack",
+            "int",
+            "largest number of sets stacked side by side [1]",
+            lower=1.0,
+            lower_inclusive=True,
+        ),
+    ),
+    row_checks=(
+        _check_core_volume,
+        _check_core_minimum_area,
+        _check_core_window,
+        _check_core_bobbin,
+    ),
+)
+
+MATERIALS = Table(
+    file_name="materials.csv",
+    noun="material",
+    selector="kind",
+    choices=_MATERIAL_KINDS,
+    columns=(
+        Column("id", "text", "unique name of the material"),
+        Column("kind", "choice", "ferrite or powder"),
+        Column(
+            "mu_i",
+            "float",
+            "initial relative permeability [1]",
+            lower=1.0,
+            upper=100000.0,
+            lower_inclusive=True,
+            upper_inclusive=True,
+        ),
+        Column(
+            "bsat_25C_T",
+            "float",
+            "saturation flux density at 25 °C [T]",
+            lower=0.05,
+            upper=3.0,
+            lower_inclusive=True,
+            upper_inclusive=True,
+        ),
+        Column(
+            "bsat_100C_T",
+            "float",
+            "saturation flux density at 100 °C [T]",
+            lower=0.05,
+            upper=3.0,
+            lower_inclusive=True,
+            upper_inclusive=True,
+        ),
+        _positive("steinmetz_k", "Steinmetz coefficient, f in Hz, B in T [W/m³]"),
+        Column(
+            "steinmetz_alpha", "float", "Steinmetz frequency exponent [1]", lower=0.0, upper=3.0
+        ),
+        Column(
+            "steinmetz_beta", "float", "Steinmetz flux-density exponent [1]", lower=1.0, upper=4.0
+        ),
+        _positive("f_min_kHz", "lowest frequency of the Steinmetz fit [kHz]"),
+        _positive("f_max_kHz", "highest frequency of the Steinmetz fit [kHz]"),
+        Column(
+            "b_max_T",
+            "float",
+            "highest peak flux density of the Steinmetz fit [T]",
+            lower=0.0,
+            upper=3.0,
+            upper_inclusive=True,
+        ),
+        Column("ct0", "float", "temperature factor constant term [1]"),
+        Column("ct1_per_C", "float", "temperature factor linear coefficient [1/°C]"),
+        Column("ct2_per_C2", "float", "temperature factor quadratic coefficient [1/°C²]"),
+        _positive(
+            "rolloff_a",
+            "roll-off fit constant a (powder only) [1]",
+            required_for=_POWDER,
+            allowed_for=_POWDER,
+        ),
+        _positive(
+            "rolloff_b",
+            "roll-off fit coefficient b, H in A/m (powder only) [(A/m)^-c]",
+            required_for=_POWDER,
+            allowed_for=_POWDER,
+        ),
+        _positive(
+            "rolloff_c",
+            "roll-off fit exponent c (powder only) [1]",
+            required_for=_POWDER,
+            allowed_for=_POWDER,
+        ),
+        _positive("density_kg_m3", "material density [kg/m³]"),
+        _non_negative("price_factor", "multiplier on the core-set price [1]"),
+    ),
+    row_checks=(
+        _check_material_saturation,
+        _check_material_frequency_range,
+        _check_material_temperature_factor,
+    ),
+)
+
+WIRES = Table(
+    file_name="wires.csv",
+    noun="wire",
+    selector="kind",
+    choices=_WIRE_KINDS,
+    columns=(
+        Column("id", "text", "unique name of the wire"),
+        Column("kind", "choice", "round, litz or foil"),
+        _positive(
+            "bare_diameter_mm",
+            "copper diameter of a round wire [mm]",
+            required_for=_ROUND,
+            allowed_for=_ROUND,
+        ),
+        _positive(
+            "outer_diameter_mm",
+            "insulated diameter (round) or bundle diameter (litz) [mm]",
+            required_for=_ROUND | _LITZ,
+            allowed_for=_ROUND | _LITZ,
+        ),
+        Column(
+            "strands",
+            "int",
+            "number of strands: 1 for round, >= 2 for litz [1]",
+            lower=1.0,
+            lower_inclusive=True,
+            required_for=_ROUND | _LITZ,
+        ),
+        _positive(
+            "strand_diameter_mm",
+            "bare diameter of one litz strand [mm]",
+            required_for=_LITZ,
+            allowed_for=_LITZ,
+        ),
+        _positive(
+            "foil_thickness_mm",
+            "copper thickness of a foil [mm]",
+            required_for=_FOIL,
+            allowed_for=_FOIL,
+        ),
+        _positive(
+            "foil_width_mm", "copper width of a foil [mm]", required_for=_FOIL, allowed_for=_FOIL
+        ),
+        _non_negative(
+            "insulation_mm",
+            "interlayer insulation of a foil winding [mm]",
+            required_for=_FOIL,
+            allowed_for=_FOIL,
+        ),
+        _non_negative("price_per_kg", "price of the wire [currency units/kg]"),
+    ),
+    row_checks=(_check_wire_conductor,),
+)
+
+#: The three tables of a catalogue, in the order their bytes enter the content hash.
+TABLES: tuple[Table, ...] = (CORES, MATERIALS, WIRES)
+
+
+@dataclass(frozen=True, eq=False)
+class Catalog:
+    """A validated catalogue.
+
+    Parameters
+    ----------
+    folder : the folder the tables were read from
+    cores, materials, wires : one row per catalogue entry, index 0..n-1, columns in the
+        order of :data:`TABLES` plus ``line`` (1-based CSV line, header = 1); numeric columns
+        are float64 (NaN where not applicable), ``max_stack`` and ``strands`` int64
+    content_hash : sha256 hex digest of the three files (see :func:`catalog_content_hash`)
+    """
+
+    folder: Path
+    cores: pd.DataFrame
+    materials: pd.DataFrame
+    wires: pd.DataFrame
+    content_hash: str
+
+
+def catalog_content_hash(file_bytes: Sequence[tuple[str, bytes]]) -> str:
+    """Hash the tables of a catalogue.
+
+    Each file enters as its name, its length and its bytes, in the fixed order cores,
+    materials, wires; the framing keeps two different catalogues whose concatenated bytes
+    happen to agree from sharing a hash.
+    """
+    digest = hashlib.sha256()
+    for name, content in file_bytes:
+        digest.update(f"{name}\0{len(content)}\0".encode())
+        digest.update(content)
+    return digest.hexdigest()
+
+
+@dataclass
+class _ParsedTable:
+    records: list[RowValues]
+    problems: list[Problem]
+
+
+def _row_label(table: Table, row_id: str | None, line: int) -> str:
+    return f"{table.noun} '{row_id}'" if row_id else f"{table.noun} on line {line}"
+
+
+def _closest(name: str, candidates: Sequence[str]) -> str | None:
+    by_lower = {candidate.lower(): candidate for candidate in candidates}
+    match = difflib.get_close_matches(name.lower(), list(by_lower), n=1, cutoff=0.6)
+    return by_lower[match[0]] if match else None
+
+
+def _parse_number(text: str) -> tuple[float | None, str | None]:
+    """Return (value, None) or (None, reason)."""
+    if not _NUMBER.match(text):
+        if text.lower() in _NON_FINITE_WORDS:
+            return None, "is not a finite number"
+        if re.fullmatch(r"[+-]?\d+,\d+", text):
+            return None, "is not a number (use '.' as the decimal separator)"
+        return None, "is not a number"
+    value = float(text)
+    if not math.isfinite(value):
+        return None, "is not a finite number"
+    return value, None
+
+
+def _check_header(
+    table: Table, header: list[str], file: str
+) -> tuple[dict[str, int], list[Problem]]:
+    """Map known column names to cell positions and report header faults."""
+    problems: list[Problem] = []
+    known = set(table.column_names)
+    positions: dict[str, int] = {}
+    unknown: list[tuple[int, str]] = []
+    for position, raw in enumerate(header):
+        name = raw.strip()
+        if not name:
+            problems.append(
+                Problem(file, 1, "", f"column {position + 1} of the header has no name")
+            )
+        elif name in positions:
+            problems.append(
+                Problem(
+                    file,
+                    1,
+                    name,
+                    f"column '{name}' appears twice (columns {positions[name] + 1} and "
+                    f"{position + 1})",
+                )
+            )
+        elif name in known:
+            positions[name] = position
+        else:
+            unknown.append((position, name))
+    missing = [name for name in table.column_names if name not in positions]
+    explained: set[str] = set()
+    for _position, name in unknown:
+        suggestion = _closest(name, table.column_names)
+        if suggestion is not None and suggestion in missing and suggestion not in explained:
+            explained.add(suggestion)
+            problems.append(
+                Problem(
+                    file,
+                    1,
+                    name,
+                    f"unknown column '{name}'; did you mean '{suggestion}'? The unit is part "
+                    "of the column name: convert the values to that unit and rename the "
+                    "column",
+                )
+            )
+        else:
+            hint = f"; did you mean '{suggestion}'?" if suggestion else ""
+            problems.append(
+                Problem(
+                    file,
+                    1,
+                    name,
+                    f"unknown column '{name}'{hint} (known columns: "
+                    f"{', '.join(table.column_names)})",
+                )
+            )
+    problems.extend(
+        Problem(file, 1, name, f"required column '{name}' is missing from the header")
+        for name in missing
+        if name not in explained
+    )
+    return positions, problems
+
+
+def _check_row(
+    table: Table,
+    cells: dict[str, str],
+    line: int,
+    file: str,
+    seen_ids: dict[str, int],
+) -> tuple[RowValues | None, list[Problem]]:
+    """Validate one data row; return its typed values (None if anything is wrong)."""
+    problems: list[Problem] = []
+    row_id = cells.get("id", "")
+    label = _row_label(table, row_id, line)
+
+    if "id" in cells:
+        if not row_id:
+            problems.append(Problem(file, line, "id", f"{label}: id is empty; every row needs one"))
+        elif row_id in seen_ids:
+            problems.append(
+                Problem(
+                    file,
+                    line,
+                    "id",
+                    f"{label}: id '{row_id}' is already used on line {seen_ids[row_id]}; "
+                    "ids must be unique",
+                )
+            )
+        else:
+            seen_ids[row_id] = line
+
+    selector_value: str | None = None
+    if table.selector in cells:
+        text = cells[table.selector]
+        if text in table.choices:
+            selector_value = text
+        else:
+            suggestion = _closest(text, table.choices) if text else None
+            hint = f"; did you mean '{suggestion}'?" if suggestion else ""
+            shown = f"'{text}'" if text else "empty"
+            problems.append(
+                Problem(
+                    file,
+                    line,
+                    table.selector,
+                    f"{label}: {table.selector} {shown} is not one of "
+                    f"{', '.join(table.choices)}{hint}",
+                )
+            )
+
+    values: RowValues = {"id": row_id, table.selector: selector_value}
+    for column in table.columns:
+        if column.kind in ("text", "choice") or column.name not in cells:
+            continue
+        text = cells[column.name]
+        if text == "":
+            if selector_value is not None and column.is_required(selector_value):
+                problems.append(
+                    Problem(
+                        file,
+                        line,
+                        column.name,
+                        f"{label}: {column.name} is empty but required for "
+                        f"{table.selector} '{selector_value}' ({column.description})",
+                    )
+                )
+            values[column.name] = None
+            continue
+        if not column.is_allowed(selector_value):
+            applies = ", ".join(sorted(column.allowed_for or ()))
+            problems.append(
+                Problem(
+                    file,
+                    line,
+                    column.name,
+                    f"{label}: {column.name} = {text} does not apply to {table.selector} "
+                    f"'{selector_value}' (only to {applies}); leave the cell empty",
+                )
+            )
+            continue
+        value, reason = _parse_number(text)
+        if value is None:
+            problems.append(
+                Problem(file, line, column.name, f"{label}: {column.name} = '{text}' {reason}")
+            )
+            continue
+        if column.kind == "int" and value != math.floor(value):
+            problems.append(
+                Problem(
+                    file,
+                    line,
+                    column.name,
+                    f"{label}: {column.name} = {text} is not a whole number",
+                )
+            )
+            continue
+        if not column.in_range(value):
+            problems.append(
+                Problem(
+                    file,
+                    line,
+                    column.name,
+                    f"{label}: {column.name} = {value:g} is out of range; expected "
+                    f"{column.range_text()}",
+                )
+            )
+            continue
+        values[column.name] = int(value) if column.kind == "int" else value
+
+    for check in table.row_checks:
+        for field, message in check(values):
+            problems.append(Problem(file, line, field, f"{label}: {message}"))
+    return (None if problems else values), problems
+
+
+def _parse_table(table: Table, path: Path, content: bytes) -> _ParsedTable:
+    file = str(path)
+    try:
+        text = content.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        return _ParsedTable(
+            [], [Problem(file, None, "", f"file is not UTF-8 text ({error.reason})")]
+        )
+
+    problems: list[Problem] = []
+    records: list[RowValues] = []
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    positions: dict[str, int] | None = None
+    header_names: list[str] = []
+    header_width = 0
+    seen_ids: dict[str, int] = {}
+    next_line = 1
+    try:
+        for row in reader:
+            line = next_line
+            next_line = reader.line_num + 1
+            if positions is None:
+                if line != 1 or not any(cell.strip() for cell in row):
+                    problems.append(
+                        Problem(file, line, "", "line 1 must be the header row; it is empty")
+                    )
+                    return _ParsedTable([], problems)
+                if row[0].lstrip().startswith("#"):
+                    problems.append(
+                        Problem(
+                            file,
+                            1,
+                            "",
+                            "line 1 starts with '#': comment lines are not allowed; line 1 "
+                            "must be the header row",
+                        )
+                    )
+                    return _ParsedTable([], problems)
+                positions, header_problems = _check_header(table, row, file)
+                problems.extend(header_problems)
+                header_names = [cell.strip() for cell in row]
+                header_width = len(row)
+                continue
+            if not any(cell.strip() for cell in row):
+                continue
+            if row[0].lstrip().startswith("#"):
+                problems.append(
+                    Problem(
+                        file,
+                        line,
+                        "",
+                        "line starts with '#': comment lines are not allowed in catalogue "
+                        "tables; keep notes in a README beside them",
+                    )
+                )
+                continue
+            if len(row) != header_width:
+                row_id = row[positions["id"]].strip() if "id" in positions else ""
+                label = _row_label(table, row_id, line)
+                if len(row) < header_width:
+                    first_missing = header_names[len(row)]
+                    problems.append(
+                        Problem(
+                            file,
+                            line,
+                            first_missing,
+                            f"{label}: row has {len(row)} cells but the header has "
+                            f"{header_width}; it ends before column '{first_missing}' "
+                            "(write empty cells as nothing between commas)",
+                        )
+                    )
+                else:
+                    problems.append(
+                        Problem(
+                            file,
+                            line,
+                            "",
+                            f"{label}: row has {len(row)} cells but the header has "
+                            f"{header_width}; remove the extra cells (a decimal comma?)",
+                        )
+                    )
+                continue
+            cells = {name: row[position].strip() for name, position in positions.items()}
+            values, row_problems = _check_row(table, cells, line, file, seen_ids)
+            problems.extend(row_problems)
+            if values is not None:
+                values["line"] = line
+                records.append(values)
+    except csv.Error as error:
+        problems.append(Problem(file, reader.line_num, "", f"unreadable CSV: {error}"))
+        return _ParsedTable(records, problems)
+
+    if positions is None:
+        problems.append(Problem(file, None, "", "file is empty; line 1 must be the header row"))
+    elif not records and not problems:
+        problems.append(
+            Problem(file, None, "", f"table has no rows; add at least one {table.noun}")
+        )
+    return _ParsedTable(records, problems)
+
+
+def _to_frame(table: Table, records: list[RowValues]) -> pd.DataFrame:
+    data: dict[str, object] = {}
+    for column in table.columns:
+        cells = [record.get(column.name) for record in records]
+        if column.kind in ("text", "choice"):
+            data[column.name] = [str(cell) for cell in cells]
+        elif column.kind == "int":
+            # Integer columns may be empty only where a single conductor is implied (foil).
+            data[column.name] = np.array(
+                [1 if cell is None else cell for cell in cells], dtype=np.int64
+            )
+        else:
+            data[column.name] = np.array(
+                [np.nan if cell is None else cell for cell in cells], dtype=np.float64
+            )
+    data["line"] = np.array([record["line"] for record in records], dtype=np.int64)
+    return pd.DataFrame(data, index=pd.RangeIndex(len(records)))
+
+
+def _read(folder: str | Path) -> tuple[list[Problem], Catalog | None]:
+    folder_path = Path(folder)
+    if not folder_path.exists():
+        return [Problem(str(folder_path), None, "", "catalogue folder not found")], None
+    if not folder_path.is_dir():
+        return [
+            Problem(
+                str(folder_path),
+                None,
+                "",
+                "not a folder; a catalogue is a folder holding "
+                + ", ".join(table.file_name for table in TABLES),
+            )
+        ], None
+
+    problems: list[Problem] = []
+    parsed: list[_ParsedTable] = []
+    contents: list[tuple[str, bytes]] = []
+    for table in TABLES:
+        path = folder_path / table.file_name
+        try:
+            content = path.read_bytes()
+        except FileNotFoundError:
+            problems.append(
+                Problem(
+                    str(path),
+                    None,
+                    "",
+                    "file not found; a catalogue folder holds "
+                    + ", ".join(t.file_name for t in TABLES),
+                )
+            )
+            continue
+        except OSError as error:
+            problems.append(Problem(str(path), None, "", f"cannot read the file ({error})"))
+            continue
+        contents.append((table.file_name, content))
+        result = _parse_table(table, path, content)
+        parsed.append(result)
+        problems.extend(result.problems)
+    if problems:
+        return problems, None
+    cores, materials, wires = (
+        _to_frame(table, result.records) for table, result in zip(TABLES, parsed, strict=True)
+    )
+    catalog = Catalog(
+        folder=folder_path,
+        cores=cores,
+        materials=materials,
+        wires=wires,
+        content_hash=catalog_content_hash(contents),
+    )
+    return [], catalog
+
+
+def check_catalog(folder: str | Path) -> list[Problem]:
+    """Validate a catalogue folder and return every problem found (empty when fine).
+
+    Parameters
+    ----------
+    folder : str or Path
+        Folder holding cores.csv, materials.csv and wires.csv [path].
+
+    Returns
+    -------
+    list of Problem
+        Each names the file, the CSV line (header = 1; None for file-wide faults), the
+        column and what is wrong.
+    """
+    problems, _ = _read(folder)
+    return problems
+
+
+def load_catalog(folder: str | Path) -> Catalog:
+    """Load and validate a catalogue folder.
+
+    Parameters
+    ----------
+    folder : str or Path
+        Folder holding cores.csv, materials.csv and wires.csv [path].
+
+    Returns
+    -------
+    Catalog
+        The three tables as DataFrames and the content hash.
+
+    Raises
+    ------
+    InputError
+        Listing every problem of all three files.
+    """
+    problems, catalog = _read(folder)
+    if catalog is None:
+        raise InputError(problems)
+    return catalog
