@@ -1,0 +1,115 @@
+"""Property tests of optimag.physics.magnetic: wide random inputs inside the documented
+ranges must give finite results, and the gap solver must invert the gap models."""
+
+import numpy as np
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from optimag.physics import magnetic as mag
+
+finite = {"allow_nan": False, "allow_infinity": False}
+areas = st.floats(1e-7, 1e-2, **finite)
+window_to_side = st.floats(0.5, 10.0, **finite)
+# Gap as a share of the shortest of window and leg side keeps every model in range.
+gap_shares = st.floats(0.0, 0.99, **finite)
+permeabilities = st.floats(10.0, 1e5, **finite)
+turn_counts = st.integers(1, 2000)
+aspect = st.floats(0.25, 4.0, **finite)
+
+
+@settings(max_examples=100, deadline=None)
+@given(ae=areas, window_ratio=window_to_side, gap_share=gap_shares, leg_aspect=aspect)
+def test_gap_reluctances_finite_and_below_ideal(ae, window_ratio, gap_share, leg_aspect):
+    width = np.sqrt(ae * leg_aspect)
+    depth = ae / width
+    side = np.sqrt(ae)
+    window = window_ratio * side
+    mcl_gap = gap_share * min(window, side)
+    muh_gap = gap_share * min(window, width, depth)
+    factor = mag.fringing_factor_mclyman(mcl_gap, ae, window)
+    mcl = mag.gap_reluctance_mclyman(mcl_gap, ae, window)
+    muh = mag.gap_reluctance_muhlethaler(muh_gap, width, depth, window)
+    for value in (factor, mcl, muh):
+        assert np.isfinite(value)
+    assert factor >= 1.0
+    # Fringing widens the flux path, so neither model exceeds the ideal gap.
+    assert mcl <= mag.gap_reluctance_ideal(mcl_gap, ae) * (1 + 1e-12)
+    assert muh <= mag.gap_reluctance_ideal(muh_gap, ae) * (1 + 1e-12)
+
+
+@settings(max_examples=100, deadline=None)
+@given(
+    ae=areas,
+    window_ratio=window_to_side,
+    path_ratio=st.floats(2.0, 30.0, **finite),
+    mu_r=permeabilities,
+    turns=turn_counts,
+    gap_share=st.floats(1e-6, 0.95, **finite),
+    fringing=st.sampled_from(sorted(mag.GAP_RELUCTANCE_MODELS)),
+)
+def test_gap_for_inductance_inverts_every_model(
+    ae, window_ratio, path_ratio, mu_r, turns, gap_share, fringing
+):
+    side = np.sqrt(ae)
+    window = window_ratio * side
+    le = path_ratio * side
+    gap = gap_share * min(window, side)
+    forward = {
+        "ideal": lambda g: mag.gap_reluctance_ideal(g, ae),
+        "mclyman": lambda g: mag.gap_reluctance_mclyman(g, ae, window),
+        "muhlethaler": lambda g: mag.gap_reluctance_muhlethaler(g, side, side, window),
+    }[fringing]
+    core = mag.core_reluctance(le, ae, mu_r)
+    inductance = mag.inductance(turns, core + forward(gap))
+    solved = mag.gap_for_inductance(turns, inductance, le, ae, mu_r, window, fringing=fringing)
+    assert np.isfinite(solved)
+    reached = core + forward(solved)
+    assert abs(reached / (turns**2 / inductance) - 1.0) <= 1e-10
+
+
+@settings(max_examples=100, deadline=None)
+@given(
+    turns=turn_counts,
+    current=st.floats(-1e3, 1e3, **finite),
+    le=st.floats(1e-3, 1.0, **finite),
+    ae=areas,
+    mu_i=st.floats(5.0, 1000.0, **finite),
+    a=st.floats(0.1, 10.0, **finite),
+    b=st.floats(0.0, 1.0, **finite),
+    c=st.floats(0.2, 5.0, **finite),
+)
+def test_powder_functions_finite_and_bounded(turns, current, le, ae, mu_i, a, b, c):
+    field = turns * current / le
+    fraction = mag.powder_permeability_fraction(field, a, b, c)
+    flux = mag.powder_flux_density(field, mu_i, a, b, c)
+    inductance = mag.powder_inductance(turns, current, le, ae, mu_i, a, b, c)
+    for value in (fraction, flux, inductance):
+        assert np.isfinite(value)
+    assert 0.0 < fraction <= 1.0 / a
+    # The incremental permeability only falls, so B never exceeds the linear value.
+    linear = mag.MU0 * mu_i * abs(field) / a
+    assert abs(flux) <= linear * (1 + 1e-9) + 1e-300
+    assert inductance > 0.0 or fraction * turns**2 * ae / le == 0.0
+
+
+@settings(max_examples=100, deadline=None)
+@given(
+    turns=turn_counts,
+    current=st.floats(-1e3, 1e3, **finite),
+    reluctance=st.floats(1e3, 1e10, **finite),
+    ae=areas,
+    temperature=st.floats(-55.0, 150.0, **finite),
+    b25=st.floats(0.2, 2.0, **finite),
+    drop=st.floats(-0.5, 1.0, **finite),
+)
+def test_linear_circuit_and_bsat_finite(turns, current, reluctance, ae, temperature, b25, drop):
+    values = (
+        mag.inductance(turns, reluctance),
+        mag.al_value(reluctance),
+        mag.flux_density(turns, current, reluctance, ae),
+        mag.core_reluctance(0.1, ae, 2000.0),
+        mag.bsat_at_temperature(temperature, b25, b25 * (1 - drop)),
+    )
+    for value in values:
+        assert np.isfinite(value)
+    assert values[-1] >= 0.0
