@@ -21,12 +21,15 @@ records built by the exporter.
 
 from __future__ import annotations
 
+import functools
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
 from optimag.constants import COPPER_RESISTIVITY_20C, COPPER_TEMPCO_20C
+from optimag.errors import ValidityRangeWarning
 from optimag.physics import coreloss, geometry, magnetic, thermal, winding
 
 #: Constraint names in the order a candidate's elimination is attributed.
@@ -61,6 +64,24 @@ WIRE_KIND_CODES = {"round": 0, "litz": 1, "foil": 2}
 #: Temperatures at which winding loss is evaluated; in between it is interpolated
 #: linearly (exact for DC loss, whose resistance is linear in temperature).
 WINDING_REFERENCE_TEMPERATURES_C = (20.0, 120.0)
+
+
+def _quiet(stage):
+    """Silence validity-range warnings inside a search stage.
+
+    A search visits millions of candidates, many outside some model's published range (a
+    Steinmetz fit far from its flux range, a gap beyond McLyman's fringing range); one
+    warning per batch would say nothing useful. Each short-listed design's record states
+    instead which of its figures come from a model used outside its range.
+    """
+
+    @functools.wraps(stage)
+    def wrapper(*args, **kwargs):
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", ValidityRangeWarning)
+            return stage(*args, **kwargs)
+
+    return wrapper
 
 
 def _mm(values) -> np.ndarray:
@@ -367,6 +388,7 @@ def gap_allowed(space: DesignSpace, core: np.ndarray, material: np.ndarray) -> n
     return (space.materials.kind[material] == 0) & (space.cores.family[core] != 2)
 
 
+@_quiet
 def magnetic_stage(
     space: DesignSpace,
     core: np.ndarray,
@@ -504,6 +526,7 @@ def _gap_reluctance(fringing, gap, ae, leg_w, leg_d, breadth):
 # ---------------------------------------------------------------------------------------
 
 
+@_quiet
 def winding_layout_stage(
     space: DesignSpace,
     core: np.ndarray,
@@ -589,6 +612,7 @@ def winding_layout_stage(
     }
 
 
+@_quiet
 def winding_loss_stage(
     space: DesignSpace,
     turns: np.ndarray,
@@ -654,6 +678,7 @@ def _ac_factors(space, wire, kind, per_layer, layers, n_turns, n_par, breadth, f
 # ---------------------------------------------------------------------------------------
 
 
+@_quiet
 def combine_stage(
     space: DesignSpace,
     material: np.ndarray,

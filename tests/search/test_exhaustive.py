@@ -1,0 +1,125 @@
+"""The exhaustive search against a plain per-design loop, and its bookkeeping."""
+
+import itertools
+import json
+
+import numpy as np
+import pytest
+
+from optimag import model
+from optimag.catalog import load_catalog
+from optimag.search.exhaustive import explore_exhaustive, magnetic_grid, space_size
+from optimag.search.pareto import dominated_by_any
+from optimag.search.run import explore
+from optimag.spec import load_study
+
+
+def _space(path):
+    study = load_study(path)
+    return study, model.build_design_space(study, load_catalog(study.catalog.path))
+
+
+def _every_candidate(space):
+    mag = magnetic_grid(space)
+    rows = []
+    for i in range(len(mag["core"])):
+        for wire, par in itertools.product(range(len(space.wires.ids)), space.parallels):
+            rows.append((mag["core"][i], mag["stack"][i], mag["material"][i], mag["turns"][i],
+                         mag["gap_option"][i], wire, par))
+    return np.array(rows)
+
+
+def test_front_equals_per_design_brute_force(tiny_study_path):
+    """Definition check: evaluate every design alone, filter feasible, compare fronts."""
+    study, space = _space(tiny_study_path)
+    objectives = list(study.search.objectives)
+    rows = _every_candidate(space)
+    assert len(rows) == space_size(space)
+    feasible_rows, feasible_obj = [], []
+    for row in rows:
+        cand = model.Candidates.from_arrays(**dict(zip(
+            ("core", "stack", "material", "turns", "gap_option", "wire", "parallel"), row)))
+        metrics = model.evaluate(space, cand)
+        if metrics["feasible"][0]:
+            feasible_rows.append(tuple(row))
+            feasible_obj.append(model.objective_matrix(metrics, objectives)[0])
+    feasible_obj = np.array(feasible_obj)
+    assert len(feasible_rows) > 10, "the tiny study must have feasible designs"
+    brute = {
+        feasible_rows[i] for i in range(len(feasible_rows))
+        if not dominated_by_any(feasible_obj[i : i + 1], feasible_obj)[0]
+    }
+    outcome = explore_exhaustive(space, objectives, chunk_size=500)
+    found = set(zip(*(outcome.front.payload[f].tolist() for f in
+                      ("core", "stack", "material", "turns", "gap_option", "wire", "parallel")),
+                    strict=True))
+    assert found == brute
+    assert outcome.feasible == len(feasible_rows)
+    assert outcome.feasible + sum(outcome.eliminated.values()) == outcome.total == len(rows)
+
+
+def test_shortlist_is_reproducible_and_undominated(tiny_study_path):
+    first = explore(tiny_study_path, top=8)
+    second = explore(tiny_study_path, top=8)
+    assert len(first.pareto) > 0
+    assert first.pareto.drop(columns=[]).equals(second.pareto)
+    objectives = ["volume_cm3", "total_loss_W", "cost"]
+    front = first.pareto[objectives].to_numpy()
+    assert not dominated_by_any(front, front).any()
+    # Each short-listed design evaluated alone reproduces its recorded figures.
+    space = first.space
+    for rec in first.shortlist_records:
+        cand = model.Candidates.from_arrays(
+            core=list(space.cores.ids).index(rec["core"]),
+            stack=rec["stack"],
+            material=list(space.materials.ids).index(rec["material"]),
+            turns=rec["turns"],
+            gap_option=0,
+            wire=list(space.wires.ids).index(rec["wire"]),
+            parallel=rec["parallel"],
+        )
+        metrics = model.evaluate(space, cand)
+        assert metrics["feasible"][0]
+        assert metrics["total_loss_W"][0] == pytest.approx(rec["total_loss_W"], rel=1e-5)
+        assert metrics["volume_cm3"][0] == pytest.approx(rec["volume_cm3"], rel=1e-5)
+        assert metrics["cost"][0] == pytest.approx(rec["cost"], rel=1e-5)
+        assert metrics["gap_m"][0] * 1e3 == pytest.approx(rec["gap_mm"], rel=1e-5, abs=1e-9)
+    # The knee comes first.
+    assert first.shortlist_records[0]["knee"]
+    json.dumps(first.record, allow_nan=False)
+
+
+def test_no_feasible_design_gives_counts_and_near_misses(make_tiny_study, capsys, tmp_path):
+    # 40 degC of headroom is impossible at 0.05 W budget: every design fails the loss budget
+    # or an earlier constraint.
+    path = make_tiny_study(replace={"max_fill_factor = 0.5": "max_fill_factor = 0.5\nmax_loss_W = 0.005"})
+    result = explore(path)
+    assert len(result.pareto) == 0
+    counts = result.record["counts"]
+    assert counts["feasible"] == 0
+    assert counts["eliminated"]["loss_budget"] > 0
+    assert sum(counts["eliminated"].values()) == counts["total"]
+    assert 1 <= len(result.near_miss_records) <= 5
+    assert all(r["worst_constraint"] for r in result.near_miss_records)
+
+    from optimag.cli import main
+
+    code = main(["explore", str(path), "--out", str(tmp_path / "run")])
+    out = capsys.readouterr().out
+    assert code == 1
+    assert "No candidate meets every constraint" in out
+    assert "loss_budget" in out
+    assert "Nearest misses" in out
+    record = json.loads((tmp_path / "run" / "run.json").read_text())
+    assert record["counts"]["feasible"] == 0 and record["near_misses"]
+
+
+def test_chunk_size_does_not_change_the_front(tiny_study_path):
+    study, space = _space(tiny_study_path)
+    objectives = list(study.search.objectives)
+    small = explore_exhaustive(space, objectives, chunk_size=97)
+    large = explore_exhaustive(space, objectives, chunk_size=1_000_000)
+    assert small.eliminated == large.eliminated
+    order_s = np.lexsort(small.front.objectives.T)
+    order_l = np.lexsort(large.front.objectives.T)
+    np.testing.assert_allclose(small.front.objectives[order_s], large.front.objectives[order_l])
