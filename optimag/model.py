@@ -41,7 +41,6 @@ CONSTRAINTS = (
     "fill_factor",
     "height",
     "footprint",
-    "thermal_runaway",
     "temperature",
     "loss_budget",
 )
@@ -635,17 +634,44 @@ def winding_loss_stage(
     freq = op.frequency_Hz * np.arange(1, n_harm + 1, dtype=float)[None, :]
     dc_sq = op.dc_A**2
     amp_sq_half = 0.5 * op.harmonics_A**2  # (K, H)
+    # The AC factors depend on fewer axes than the winding: not on the stack, nor (round
+    # wire, foil) on the turns except through the layer count. Evaluate each distinct
+    # (wire, core window, conductors per layer, layers | turns, strands) case once.
+    unique_rows, inverse = _distinct_ac_cases(space, wire, kind, core, layout, turns, parallel)
+    u_wire, u_kind = wire[unique_rows], kind[unique_rows]
     out = {}
     for label, temp in zip(("lo", "hi"), WINDING_REFERENCE_TEMPERATURES_C, strict=True):
         rho = float(winding.copper_resistivity(temp))
         factors = _ac_factors(
-            space, wire, kind, layout["conductors_per_layer"], layout["layers"], n_turns, n_par,
-            breadth, freq, rho,
+            space, u_wire, u_kind, layout["conductors_per_layer"][unique_rows],
+            layout["layers"][unique_rows], n_turns[unique_rows], n_par[unique_rows],
+            breadth[unique_rows], freq, rho,
         )
+        weighted = (factors @ amp_sq_half.T)[inverse]
         rdc = layout["dc_resistance_20C_ohm"] * (rho / COPPER_RESISTIVITY_20C)
         out[f"winding_dc_{label}_W"] = rdc[:, None] * dc_sq[None, :]
-        out[f"winding_ac_{label}_W"] = rdc[:, None] * (factors @ amp_sq_half.T)
+        out[f"winding_ac_{label}_W"] = rdc[:, None] * weighted
     return out
+
+
+def _distinct_ac_cases(space, wire, kind, core, layout, turns, parallel):
+    """Rows that are distinct as far as the AC factor goes, and the map back to all rows."""
+    zero = np.zeros_like(wire)
+    is_round, is_litz = kind == 0, kind == 1
+    per_layer = layout["conductors_per_layer"].astype(np.int64)
+    layers = layout["layers"].astype(np.int64)
+    fields = (
+        wire,
+        np.where(kind == 2, zero, core),  # foil: porosity 1, the window does not matter
+        np.where(is_round, per_layer, zero),
+        np.where(is_litz, zero, layers),
+        np.where(is_litz, turns, zero),
+        np.where(is_litz, parallel, zero),
+    )
+    dims = tuple(int(f.max()) + 1 for f in fields)
+    key = np.ravel_multi_index(fields, dims)
+    _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+    return first, inverse
 
 
 def _ac_factors(space, wire, kind, per_layer, layers, n_turns, n_par, breadth, freq, rho):
@@ -678,6 +704,47 @@ def _ac_factors(space, wire, kind, per_layer, layers, n_turns, n_par, breadth, f
 # ---------------------------------------------------------------------------------------
 
 
+def loss_quadratic(space: DesignSpace, material: np.ndarray, mag: dict, wdg: dict):
+    """Coefficients (a0, a1, a2), each (n, K), of the total loss P(T) = a0 + a1 T + a2 T^2
+    [W, T in degC]: core loss times ct0 - ct1 T + ct2 T^2 plus the winding loss on the line
+    through its two reference temperatures."""
+    m = space.materials
+    t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
+    core_ref = mag["core_loss_reference_W"]
+    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"]
+    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"]
+    slope = (wind_hi - wind_lo) / (t_hi - t_lo)
+    a0 = core_ref * m.ct0[material][:, None] + wind_lo - slope * t_lo
+    a1 = -core_ref * m.ct1[material][:, None] + slope
+    a2 = core_ref * m.ct2[material][:, None]
+    return a0, a1, a2
+
+
+@_quiet
+def certainly_too_hot(
+    space: DesignSpace, material: np.ndarray, stack: np.ndarray, core: np.ndarray,
+    mag: dict, wdg: dict,
+) -> np.ndarray:
+    """True where a candidate cannot settle at or below the temperature limit at some
+    operating point: its smallest loss between ambient and the limit already exceeds the
+    heat it could shed at the limit (heat shed grows with temperature). Exact screen, no
+    feasible candidate is ever flagged."""
+    req = space.requirements
+    a0, a1, a2 = loss_quadratic(space, material, mag, wdg)
+    t_a, t_max = req.ambient_C, req.max_temperature_C
+    with np.errstate(divide="ignore", invalid="ignore"):
+        vertex = np.clip(np.where(a2 > 0, -a1 / (2 * a2), t_a), t_a, t_max)
+    p_min = np.minimum(
+        np.minimum(a0 + a1 * t_a + a2 * t_a**2, a0 + a1 * t_max + a2 * t_max**2),
+        a0 + a1 * vertex + a2 * vertex**2,
+    )
+    q_max = thermal.heat_shed(
+        t_max - t_a, t_a, wdg["surface_m2"], wdg["box_height_m"], req.emissivity,
+        req.thermal_model, space.cores.ve_m3[core] * stack.astype(float),
+    )
+    return np.any(p_min > q_max[:, None], axis=1)
+
+
 @_quiet
 def combine_stage(
     space: DesignSpace,
@@ -693,15 +760,8 @@ def combine_stage(
     m, c = space.materials, space.cores
     req, op = space.requirements, space.operating
     t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
-    # Total loss as a quadratic in temperature: core loss times ct0 - ct1 T + ct2 T^2,
-    # plus winding loss on the line through its two reference temperatures.
     core_ref = mag["core_loss_reference_W"]
-    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"]
-    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"]
-    slope = (wind_hi - wind_lo) / (t_hi - t_lo)
-    a0 = core_ref * m.ct0[material][:, None] + wind_lo - slope * t_lo
-    a1 = -core_ref * m.ct1[material][:, None] + slope
-    a2 = core_ref * m.ct2[material][:, None]
+    a0, a1, a2 = loss_quadratic(space, material, mag, wdg)
     surface = wdg["surface_m2"][:, None]
     height = wdg["box_height_m"][:, None]
     ve = (c.ve_m3[core] * stack.astype(float))[:, None]

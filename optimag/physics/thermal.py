@@ -727,3 +727,52 @@ def temperature_rise(
         max_iterations=max_iterations,
     )
     return equilibrium.temperature_C - np.asarray(ambient_C)
+
+
+def heat_shed(
+    rise_K: ArrayLike,
+    ambient_C: ArrayLike,
+    surface_m2: ArrayLike,
+    height_m: ArrayLike,
+    emissivity: ArrayLike = 0.9,
+    model: str = "convection",
+    ve_m3: ArrayLike | None = None,
+) -> FloatArray:
+    """Heat a part sheds to ambient at a given temperature rise, Q = G(dT) dT [W].
+
+    Parameters
+    ----------
+    rise_K : array_like
+        Temperature rise of the part over ambient, > 0 [K]
+    ambient_C : array_like
+        Ambient temperature [degC]
+    surface_m2 : array_like
+        Surface area of the part [m^2]
+    height_m : array_like
+        Height of the part (convection length) [m]
+    emissivity : array_like
+        Surface emissivity [-]
+    model : str
+        Key of `CONDUCTANCE_MODELS` [-]
+    ve_m3 : array_like, optional
+        Effective core volume, for "ferrite_rth" [m^3]
+
+    Returns
+    -------
+    heat : ndarray
+        Heat flow to ambient [W]
+
+    Notes
+    -----
+    Q increases monotonically with the rise for every registered model, so a part whose
+    smallest possible loss between ambient and a temperature limit exceeds Q at that limit
+    cannot settle below the limit. The search uses this as an exact pre-screen.
+
+    References
+    ----------
+    As for the conductance models in `CONDUCTANCE_MODELS`.
+    """
+    conductance, _ = CONDUCTANCE_MODELS[model]
+    rise = np.maximum(np.asarray(rise_K, dtype=float), _MIN_RISE_K)
+    part = ThermalContext(ambient_C, surface_m2, height_m, emissivity, ve_m3)
+    return conductance(rise, part) * rise

@@ -246,11 +246,12 @@ def _process_group_batch(
             offset = np.arange(total_pairs) - row_first
             w_idx = w_start[np.repeat(mag_gi[lo:hi], reps)] + offset
             yield _final_stage(space, mag, mag_out, mag_pass[mag_idx], layout, w_idx,
-                               wire[w_pass], parallel[w_pass], eliminated)
+                               wire[w_pass], parallel[w_pass], eliminated, stage_sizes)
         lo = hi
 
 
-def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, eliminated):
+def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, eliminated,
+                 stage_sizes):
     candidates = model.Candidates(
         core=mag["core"][mag_row],
         stack=mag["stack"][mag_row],
@@ -262,6 +263,18 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
     )
     mag_part = {k: v[mag_row] for k, v in mag_out.items()}
     wdg_part = {k: v[w_idx] for k, v in layout.items()}
+    n_all = len(candidates)
+    # Exact screen: parts that cannot settle below the temperature limit skip the fixed
+    # point; they are counted under "temperature", where the full model puts them too.
+    too_hot = model.certainly_too_hot(
+        space, candidates.material, candidates.stack, candidates.core, mag_part, wdg_part
+    )
+    eliminated["temperature"] += int(np.count_nonzero(too_hot))
+    keep = np.flatnonzero(~too_hot)
+    if keep.size < n_all:
+        candidates = candidates.take(keep)
+        mag_part = {k: v[keep] for k, v in mag_part.items()}
+        wdg_part = {k: v[keep] for k, v in wdg_part.items()}
     final = model.combine_stage(
         space, candidates.material, candidates.stack, candidates.core, candidates.turns,
         mag_part, wdg_part,
@@ -274,7 +287,9 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
             eliminated[name] += int(np.count_nonzero(first == index))
     metrics["feasible"] = first < 0
     metrics["worst_violation"] = violations.max(axis=1)
-    return candidates, metrics, len(candidates)
+    stage_sizes["thermal_screened"] = stage_sizes.get("thermal_screened", 0) + n_all - keep.size
+    stage_sizes["final"] = stage_sizes.get("final", 0) + len(candidates)
+    return candidates, metrics, n_all
 
 
 class _NearMisses:

@@ -11,6 +11,9 @@ from numpy.typing import ArrayLike, NDArray
 #: Rows compared at once when filtering against a front (bounds the n x f boolean block).
 _BLOCK_ROWS = 4096
 
+#: Front members used to screen a large batch before the full comparison.
+_SCREEN_SIZE = 16
+
 
 def dominated_by_any(points: ArrayLike, front: ArrayLike) -> NDArray[np.bool_]:
     """Mark the points that some member of ``front`` dominates.
@@ -23,6 +26,20 @@ def dominated_by_any(points: ArrayLike, front: ArrayLike) -> NDArray[np.bool_]:
     result = np.zeros(len(points), dtype=bool)
     if len(front) == 0 or len(points) == 0:
         return result
+    if len(front) > 2 * _SCREEN_SIZE and len(points) > 4 * _SCREEN_SIZE:
+        # Most dominated points are dominated by one of a few spread-out front members:
+        # screen with those first, then compare only the rest against the whole front.
+        spread = np.linspace(0, len(front) - 1, _SCREEN_SIZE).astype(int)
+        screen = front[np.lexsort(front.T[::-1])[spread]]
+        result = _dominated_blockwise(points, screen)
+        rest = np.flatnonzero(~result)
+        result[rest] = _dominated_blockwise(points[rest], front)
+        return result
+    return _dominated_blockwise(points, front)
+
+
+def _dominated_blockwise(points: np.ndarray, front: np.ndarray) -> NDArray[np.bool_]:
+    result = np.zeros(len(points), dtype=bool)
     block = max(1, _BLOCK_ROWS * 64 // max(len(front), 1))
     for start in range(0, len(points), block):
         chunk = points[start : start + block, None, :]

@@ -1,0 +1,907 @@
+"""Optuna search: a multi-objective sampler proposes designs, the model scores them in batches.
+
+Each trial is one candidate (core, stack, material, turns, gap option, wire, parallel
+strands) and, when the study has a ``[custom_core]`` table, the dimensions of a
+made-to-order core. Trials are asked in batches of ``batch_size``, the whole batch is
+evaluated by one `model.evaluate` call, and every trial is told its objectives (all
+minimised) and its constraint values: the model's normalised violations in
+`model.CONSTRAINTS` order, feasible when all are <= 0. Infeasible trials are told their
+objectives too; the sampler ranks them by the sum of their positive violations.
+
+Storage and resume
+    The study lives in an optuna storage (default: ``optuna.db`` in the run folder;
+    in memory when there is no run folder). Re-running with the same storage resumes:
+    trials left RUNNING by a killed process are marked FAIL and not counted, and only the
+    trials missing to reach the target number of COMPLETE trials are asked. A kill loses
+    at most the batch in flight.
+
+Workers
+    `run_worker` joins an existing study from its storage alone (the study file's text,
+    its path and the catalogue's path and hash are kept as study user attributes) and adds
+    trials until the study holds the target number of COMPLETE trials. Each worker checks
+    the count before each batch, so several workers may overshoot the target by at most
+    ``(workers - 1) * batch_size`` trials; no trial is lost or counted twice (the storage
+    numbers trials). Parallel runs are not reproducible, single-process runs with a fixed
+    seed are.
+
+Out-of-range parameter values are mapped, not rejected, the same way whenever a trial is
+read back: a stack above the core's ``max_stack`` is clipped to it, a gap option on a core
+that cannot be gapped becomes "no gap", custom cores have a stack of 1, and a custom
+core's window breadth is clipped so the set stays within ``max_height_mm``.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import dataclasses
+import inspect
+import math
+import time
+import warnings
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import optuna
+from optuna.trial import TrialState
+
+from optimag import __version__, model
+from optimag.errors import InputError, Problem
+from optimag.search import custom_core as geometry
+from optimag.search.exhaustive import CANDIDATE_FIELDS, NEAR_MISS_COUNT, ExhaustiveOutcome
+from optimag.search.pareto import RunningFront
+
+try:  # the list-valued key that optuna's samplers read constraint values from
+    from optuna.study._constrained_optimization import _CONSTRAINTS_KEY
+except ImportError:  # pragma: no cover - older optuna layouts
+    _CONSTRAINTS_KEY = "constraints"
+
+__all__ = [
+    "DEFAULT_POPULATION",
+    "OptunaProblem",
+    "custom_vs_catalogue",
+    "explore_optuna",
+    "open_optuna_study",
+    "run_trials",
+    "run_worker",
+]
+
+#: NSGA-II population size: small enough that a 2000-trial budget runs ~40 generations
+#: (tuned with tests/benchmarks/optuna_vs_exhaustive.py).
+DEFAULT_POPULATION = 50
+
+#: Study user-attribute names (a worker rebuilds the design space from these).
+ATTR_STUDY_TEXT = "optimag.study_text"
+ATTR_STUDY_PATH = "optimag.study_path"
+ATTR_CATALOG_PATH = "optimag.catalog_path"
+ATTR_CATALOG_HASH = "optimag.catalog_hash"
+ATTR_TARGET = "optimag.trials"
+ATTR_SAMPLER = "optimag.sampler"
+ATTR_BATCH = "optimag.batch_size"
+ATTR_OBJECTIVES = "optimag.objectives"
+ATTR_VERSION = "optimag.version"
+
+_CUSTOM_PARAM_PREFIX = "custom_"
+
+#: Rows of the (trial x turns) magnetic grid evaluated at once when decoding turns.
+_DECODE_ROWS = 200_000
+
+
+# ---------------------------------------------------------------------------------------
+# The problem: parameters <-> candidates
+# ---------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class TrialTable:
+    """Decoded trials, one row each (custom dimensions NaN for catalogue cores)."""
+
+    number: np.ndarray
+    catalogue_core: np.ndarray  # index into the catalogue cores, -1 for a custom core
+    stack: np.ndarray
+    material: np.ndarray
+    turns: np.ndarray
+    gap_option: np.ndarray
+    wire: np.ndarray
+    parallel: np.ndarray
+    custom_dims_m: np.ndarray  # (n, n_dims)
+
+    def __len__(self) -> int:
+        return len(self.number)
+
+    def take(self, index) -> TrialTable:
+        return TrialTable(**{f.name: getattr(self, f.name)[index]
+                             for f in dataclasses.fields(self)})
+
+    @property
+    def is_custom(self) -> np.ndarray:
+        return self.catalogue_core < 0
+
+
+class OptunaProblem:
+    """A study's design space as optuna parameters, and back.
+
+    Parameters: ``core`` (catalogue id, or ``"custom"``), ``stack``, ``material``,
+    ``turns``, ``gap_mm`` (only with a gap grid), ``wire``, ``parallel`` and, with a
+    custom core, ``custom_<dimension>_mm`` for each dimension with a range. Custom
+    dimensions are drawn in every trial, catalogue core or not, so the search space stays
+    the same for every trial (the samplers then model them jointly).
+    """
+
+    def __init__(self, study, catalog, space: model.DesignSpace | None = None,
+                 turns_decoder: bool = True, encoding: str = "ordinal"):
+        self.turns_decoder = turns_decoder
+        self.study = study
+        self.catalog = catalog
+        self.space = space if space is not None else model.build_design_space(study, catalog)
+        self.objectives = list(study.search.objectives)
+        self.custom = getattr(study, "custom_core", None)
+        self.encoding = encoding
+        cores, wires = self.space.cores, self.space.wires
+        with_catalogue = self.custom is None or self.custom.include_catalogue_cores
+        # Ordinal parameters: cores by area product Ae x window area, wires by copper
+        # area, so that a small step of the sampler is a small change of the design.
+        self.core_order = (np.argsort(cores.ae_m2 * cores.window_area_m2, kind="stable")
+                           if with_catalogue else np.empty(0, dtype=np.int64))
+        self.wire_order = np.argsort(wires.copper_area_m2, kind="stable")
+        self.core_sources = (["catalogue"] if with_catalogue else []) + (
+            ["custom"] if self.custom is not None else [])
+        if not self.core_sources:
+            raise ValueError("no core to search")
+        if with_catalogue and len(self.core_order) == 0:
+            raise ValueError("no core to search: the catalogue filter left none")
+        self.core_choices = [str(cores.ids[i]) for i in self.core_order] + (
+            ["custom"] if self.custom is not None else [])
+        self._core_index = {str(c): i for i, c in enumerate(cores.ids)}
+        self._material_index = {str(m): i for i, m in enumerate(self.space.materials.ids)}
+        self._wire_index = {str(w): i for i, w in enumerate(wires.ids)}
+        self.dimension_ranges = self.custom.dimension_ranges_m() if self.custom else {}
+
+    # --- naming -------------------------------------------------------------------------
+
+    @property
+    def study_name(self) -> str:
+        """Name of the optuna study: the study's name, suffixed when it has a custom
+        core (its search space differs)."""
+        if self.custom is None:
+            return self.study.name
+        return f"{self.study.name}-custom-{self.custom.family}"
+
+    @property
+    def dimension_names(self) -> list[str]:
+        return list(self.dimension_ranges)
+
+    # --- sampling -----------------------------------------------------------------------
+
+    def suggest(self, trial: optuna.Trial) -> None:
+        """Draw every parameter of ``trial``."""
+        s = self.study.search
+        space = self.space
+        if self.encoding == "categorical":
+            trial.suggest_categorical("core", self.core_choices)
+        else:
+            if len(self.core_sources) > 1:
+                trial.suggest_categorical("core_source", self.core_sources)
+            if len(self.core_order):
+                trial.suggest_int("core", 0, len(self.core_order) - 1)
+        trial.suggest_int("stack", int(space.stacks[0]), int(space.stacks[-1]))
+        trial.suggest_categorical("material", [str(m) for m in space.materials.ids])
+        trial.suggest_int("turns", int(space.turns[0]), int(space.turns[-1]))
+        if space.gap_grid_m is not None:
+            trial.suggest_categorical("gap_mm", [float(g) for g in s.gap_grid_mm])
+        if self.encoding == "categorical":
+            trial.suggest_categorical("wire", [str(w) for w in space.wires.ids])
+        else:
+            trial.suggest_int("wire", 0, len(self.wire_order) - 1)
+        trial.suggest_int("parallel", int(space.parallels[0]), int(space.parallels[-1]))
+        step = self.custom.step_mm if self.custom else None
+        for name, (low, high) in self.dimension_ranges.items():
+            low_mm, high_mm = low * 1e3, high * 1e3
+            if high_mm > low_mm:
+                # The grid must divide the range; optuna would otherwise shrink `high`.
+                grid = step if step and (high_mm - low_mm) / step >= 1 else None
+                if grid is not None and not math.isclose(
+                    round((high_mm - low_mm) / grid) * grid, high_mm - low_mm, rel_tol=1e-9
+                ):
+                    grid = None
+                trial.suggest_float(f"{_CUSTOM_PARAM_PREFIX}{name}_mm", low_mm, high_mm,
+                                    step=grid)
+
+    # --- decoding -----------------------------------------------------------------------
+
+    def decode(self, numbers: Sequence[int], params: Sequence[dict]) -> TrialTable:
+        """Turn trial parameters into index arrays (with the mappings of the module
+        docstring applied)."""
+        space = self.space
+        n = len(params)
+        catalogue_core = np.array([self._catalogue_core(p) for p in params], dtype=np.int64)
+        stack = np.array([p["stack"] for p in params], dtype=np.int64)
+        material = np.array([self._material_index[p["material"]] for p in params],
+                            dtype=np.int64)
+        turns = np.array([p["turns"] for p in params], dtype=np.int64)
+        if self.encoding == "categorical":
+            wire = np.array([self._wire_index[p["wire"]] for p in params], dtype=np.int64)
+        else:
+            wire = self.wire_order[np.array([p["wire"] for p in params], dtype=np.int64)]
+        parallel = np.array([p["parallel"] for p in params], dtype=np.int64)
+        gap_option = np.zeros(n, dtype=np.int64)
+        if space.gap_grid_m is not None:
+            grid_mm = [float(g) for g in self.study.search.gap_grid_mm]
+            gap_option = np.array([grid_mm.index(float(p["gap_mm"])) for p in params],
+                                  dtype=np.int64)
+        custom = catalogue_core < 0
+        safe_core = np.where(custom, 0, catalogue_core)
+        stack = np.where(custom, 1, np.minimum(stack, space.cores.max_stack[safe_core]))
+        cuttable = model.gap_allowed(space, safe_core, material)
+        if self.custom is not None:
+            # Custom cores are ferrite E or pot shapes: gappable with a ferrite material.
+            cuttable = np.where(custom, space.materials.kind[material] == 0, cuttable)
+        gap_option = np.where(cuttable, gap_option, 0)
+        dims = np.full((n, len(self.dimension_ranges)), np.nan)
+        for j, (name, (low, _high)) in enumerate(self.dimension_ranges.items()):
+            key = f"{_CUSTOM_PARAM_PREFIX}{name}_mm"
+            dims[:, j] = [p.get(key, low * 1e3) * 1e-3 for p in params]
+        dims[~custom] = np.nan
+        if self.custom is not None and custom.any():
+            dims[custom] = self._clip_height(dims[custom])
+        table = TrialTable(
+            number=np.asarray(numbers, dtype=np.int64), catalogue_core=catalogue_core,
+            stack=stack, material=material, turns=turns, gap_option=gap_option, wire=wire,
+            parallel=parallel, custom_dims_m=dims,
+        )
+        if not self.turns_decoder or n == 0:
+            return table
+        per_chunk = max(1, _DECODE_ROWS // len(space.turns))
+        parts = [self.magnetic_turns(table.take(slice(lo, lo + per_chunk)))
+                 for lo in range(0, len(table), per_chunk)]
+        if len(parts) == 1:
+            return parts[0]
+        return dataclasses.replace(table, turns=np.concatenate([p.turns for p in parts]))
+
+    def _catalogue_core(self, params: dict) -> int:
+        """Catalogue core index of a trial, -1 for a custom core."""
+        if self.encoding == "categorical":
+            return -1 if params["core"] == "custom" else self._core_index[params["core"]]
+        source = params.get("core_source", self.core_sources[0])
+        return -1 if source == "custom" else int(self.core_order[params["core"]])
+
+    def _clip_height(self, dims: np.ndarray) -> np.ndarray:
+        if self.custom.max_height_mm is None:
+            return dims
+        names = self.dimension_names
+        out = dims.copy()
+        breadth = out[:, names.index("window_breadth")]
+        low = self.dimension_ranges["window_breadth"][0]
+        if self.custom.family == "E":
+            yokes = out[:, names.index("leg_width")]
+        elif "base_thickness" in names:
+            yokes = 2 * out[:, names.index("base_thickness")]
+        else:
+            yokes = out[:, names.index("post_diameter")] / 2
+        out[:, names.index("window_breadth")] = np.maximum(
+            np.minimum(breadth, self.custom.max_height_mm * 1e-3 - yokes), low
+        )
+        return out
+
+    # --- custom cores -------------------------------------------------------------------
+
+    def custom_geometry(self, dims_m: np.ndarray) -> geometry.CoreGeometry:
+        """Effective parameters of custom cores, one per row of ``dims_m``."""
+        col = {name: dims_m[:, j] for j, name in enumerate(self.dimension_names)}
+        if self.custom.family == "E":
+            return geometry.e_core_geometry(
+                col["leg_width"], col["leg_depth"], col["window_breadth"], col["window_width"]
+            )
+        return geometry.pot_core_geometry(
+            col["post_diameter"], col["window_breadth"], col["window_width"],
+            col.get("base_thickness"),
+        )
+
+    def custom_core_arrays(self, dims_m: np.ndarray, ids: Sequence[str]) -> model.CoreArrays:
+        """`model.CoreArrays` rows for custom cores (stack fixed at 1)."""
+        n = len(dims_m)
+        g = self.custom_geometry(dims_m)
+        price = geometry.volume_price(
+            g.material_volume_m3, self.custom.price_base, self.custom.price_per_cm3
+        )
+        return model.CoreArrays(
+            ids=np.asarray(ids, dtype=object), family=np.full(
+                n, model.FAMILY_CODES[self.custom.family], dtype=np.int8),
+            ae_m2=g.ae_m2, le_m=g.le_m, ve_m3=g.ve_m3, amin_m2=g.amin_m2,
+            window_area_m2=g.window_area_m2, breadth_m=g.window_breadth_m,
+            window_width_m=g.window_width_m, leg_width_m=g.leg_width_m,
+            leg_depth_m=g.leg_depth_m, bobbin_wall_m=np.full(n, self.custom.bobbin_wall_mm * 1e-3),
+            length_m=g.length_m, width_m=g.width_m, height_m=g.height_m,
+            price=np.asarray(price, dtype=float), max_stack=np.ones(n, dtype=np.int64),
+        )
+
+    def custom_records(self, table: TrialTable) -> dict[str, dict]:
+        """Dimensions and effective parameters of the custom cores in ``table`` (trade
+        units), keyed by core id."""
+        rows = np.flatnonzero(table.is_custom)
+        if rows.size == 0:
+            return {}
+        dims = table.custom_dims_m[rows]
+        g = self.custom_geometry(dims)
+        price = geometry.volume_price(
+            g.material_volume_m3, self.custom.price_base, self.custom.price_per_cm3
+        )
+        out = {}
+        for k, row in enumerate(rows):
+            entry = {"family": self.custom.family, "trial": int(table.number[row])}
+            entry.update({f"{name}_mm": round(float(dims[k, j]) * 1e3, 4)
+                          for j, name in enumerate(self.dimension_names)})
+            entry.update({
+                "Ae_mm2": round(float(g.ae_m2[k]) * 1e6, 4),
+                "le_mm": round(float(g.le_m[k]) * 1e3, 4),
+                "Ve_mm3": round(float(g.ve_m3[k]) * 1e9, 2),
+                "Amin_mm2": round(float(g.amin_m2[k]) * 1e6, 4),
+                "length_mm": round(float(g.length_m[k]) * 1e3, 4),
+                "width_mm": round(float(g.width_m[k]) * 1e3, 4),
+                "height_mm": round(float(g.height_m[k]) * 1e3, 4),
+                "material_volume_cm3": round(float(g.material_volume_m3[k]) * 1e6, 5),
+                "bobbin_wall_mm": self.custom.bobbin_wall_mm,
+                "price": round(float(price[k]), 4),
+            })
+            out[custom_core_id(self.custom.family, int(table.number[row]))] = entry
+        return out
+
+    def design_keys(self, table: TrialTable) -> list[tuple]:
+        """A hashable key per decoded design (equal keys: the same design)."""
+        dims = np.round(np.nan_to_num(table.custom_dims_m, nan=-1.0) * 1e9).astype(np.int64)
+        columns = [table.catalogue_core, table.stack, table.material, table.turns,
+                   table.gap_option, table.wire, table.parallel, *dims.T]
+        return list(zip(*(c.tolist() for c in columns), strict=True))
+
+    # --- evaluation ---------------------------------------------------------------------
+
+    def materialise(self, table: TrialTable) -> tuple[model.DesignSpace, model.Candidates]:
+        """A design space holding the catalogue cores plus one core row per custom trial
+        of ``table``, and the candidates of ``table`` indexing it."""
+        core = table.catalogue_core.copy()
+        space = self.space
+        custom_rows = np.flatnonzero(table.is_custom)
+        if custom_rows.size:
+            ids = [custom_core_id(self.custom.family, int(n))
+                   for n in table.number[custom_rows]]
+            extra = self.custom_core_arrays(table.custom_dims_m[custom_rows], ids)
+            space = dataclasses.replace(space, cores=_concat_cores(space.cores, extra))
+            core[custom_rows] = len(self.space.cores.ids) + np.arange(custom_rows.size)
+        candidates = model.Candidates(
+            core=core, stack=table.stack, material=table.material, turns=table.turns,
+            gap_option=table.gap_option, wire=table.wire, parallel=table.parallel,
+        )
+        return space, candidates
+
+    def magnetic_turns(self, table: TrialTable) -> TrialTable:
+        """Map each trial's drawn turns into the turns its (core, stack, material, gap)
+        admits magnetically.
+
+        The magnetic constraints (`model.MAGNETIC_CONSTRAINTS`: inductance reachable,
+        no saturation, inductance kept at peak) depend on the turns through a narrow band
+        (a gapless powder or ring core meets the inductance at one or two turn counts
+        only). The drawn value is read as a position in the study's turns range and
+        taken to the same relative position in the admissible set, so neighbouring
+        draws stay neighbours. Where no turn count is admissible the drawn one is kept
+        (the trial is then infeasible and its violations steer the sampler away).
+        """
+        if len(table) == 0:
+            return table
+        space, candidates = self.materialise(table)
+        grid = space.turns
+        n, m = len(table), len(grid)
+        rows = np.repeat(np.arange(n), m)
+        mag = model.magnetic_stage(
+            space, candidates.core[rows], candidates.stack[rows], candidates.material[rows],
+            np.tile(grid, n), candidates.gap_option[rows],
+        )
+        admissible = np.ones(n * m, dtype=bool)
+        for name in model.MAGNETIC_CONSTRAINTS:
+            admissible &= ~(mag[f"violation_{name}"] > 0)
+        admissible = admissible.reshape(n, m)
+        count = admissible.sum(axis=1)
+        span = max(int(grid[-1] - grid[0]), 1)
+        position = (table.turns - grid[0]) / span
+        wanted = np.rint(position * np.maximum(count - 1, 0)).astype(np.int64)
+        rank = np.cumsum(admissible, axis=1) - 1
+        pick = np.argmax(admissible & (rank == wanted[:, None]), axis=1)
+        turns = np.where(count > 0, grid[pick], table.turns)
+        return dataclasses.replace(table, turns=turns.astype(np.int64))
+
+    def evaluate(self, table: TrialTable) -> tuple[np.ndarray, np.ndarray]:
+        """Objectives (n, n_objectives) and violations (n, n_constraints) of a batch,
+        with one `model.evaluate` call."""
+        space, candidates = self.materialise(table)
+        metrics = model.evaluate(space, candidates)
+        objectives = model.objective_matrix(metrics, self.objectives)
+        violations = model.violations_matrix(metrics)
+        # Optuna refuses NaN and infinite objectives: a thermal runaway has no finite loss
+        # figure, and its constraint already marks it infeasible.
+        objectives = np.where(np.isfinite(objectives), objectives, np.finfo(float).max / 1e6)
+        violations = np.where(np.isnan(violations), 1.0, violations)
+        return objectives, violations
+
+
+def custom_core_id(family: str, trial_number: int) -> str:
+    """Id of the custom core drawn in a trial."""
+    return f"custom-{family}-{trial_number}"
+
+
+def _concat_cores(a: model.CoreArrays, b: model.CoreArrays) -> model.CoreArrays:
+    return model.CoreArrays(**{
+        f.name: np.concatenate([np.asarray(getattr(a, f.name)), np.asarray(getattr(b, f.name))])
+        .astype(np.asarray(getattr(a, f.name)).dtype if f.name != "ids" else object)
+        for f in dataclasses.fields(model.CoreArrays)
+    })
+
+
+# ---------------------------------------------------------------------------------------
+# Optuna study: sampler, storage, resume
+# ---------------------------------------------------------------------------------------
+
+
+def make_sampler(name: str, seed: int | None, population_size: int = DEFAULT_POPULATION):
+    """The study's sampler: NSGA-II (default) or multivariate TPE.
+
+    Constraint values are stored on each trial before it is told (see `_store_constraints`),
+    which both samplers read; no ``constraints_func`` is passed (optuna 5 deprecates it).
+    """
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
+        if name == "tpe":
+            return optuna.samplers.TPESampler(
+                seed=seed, multivariate=True, group=False, constant_liar=True,
+                n_startup_trials=population_size,
+            )
+        kwargs = {}
+        parameters = inspect.signature(optuna.samplers.NSGAIISampler).parameters
+        if "mutation" in parameters:
+            # Optuna >= 5: a local (polynomial) mutation of integers and floats instead of
+            # a uniform redraw keeps children near good parents.
+            from optuna.samplers.nsgaii import PolynomialMutation
+
+            kwargs["mutation"] = PolynomialMutation()
+        return optuna.samplers.NSGAIISampler(
+            seed=seed, population_size=population_size, **kwargs
+        )
+
+
+def storage_url_for(run_dir: str | Path | None, storage: str | None) -> str | None:
+    """The storage URL: as given, else SQLite in the run folder, else None (memory)."""
+    if storage:
+        return storage
+    if run_dir is None:
+        return None
+    folder = Path(run_dir).resolve()
+    folder.mkdir(parents=True, exist_ok=True)
+    return f"sqlite:///{folder / 'optuna.db'}"
+
+
+def shown_storage(url: str | None) -> str:
+    """The storage URL without its password, for the run record."""
+    if url is None:
+        return "memory"
+    try:
+        from sqlalchemy.engine import make_url
+
+        return make_url(url).render_as_string(hide_password=True)
+    except Exception:
+        return url.split(":", 1)[0] + ":..."
+
+
+def open_optuna_study(
+    problem: OptunaProblem,
+    storage: str | None,
+    sampler,
+    *,
+    target: int,
+    batch_size: int,
+    sampler_name: str,
+) -> optuna.Study:
+    """Create or load the optuna study of ``problem`` and record what a worker needs."""
+    optuna.logging.set_verbosity(optuna.logging.WARNING)
+    directions = ["minimize"] * len(problem.objectives)
+    ostudy = optuna.create_study(
+        storage=storage, sampler=sampler, study_name=problem.study_name,
+        directions=directions, load_if_exists=True,
+    )
+    attrs = ostudy.user_attrs
+    catalog_hash = str(problem.catalog.content_hash)
+    if ATTR_CATALOG_HASH in attrs:
+        mismatch = []
+        if attrs[ATTR_CATALOG_HASH] != catalog_hash:
+            mismatch.append("the catalogue changed")
+        if list(attrs.get(ATTR_OBJECTIVES, [])) != problem.objectives:
+            mismatch.append("the objectives changed")
+        if mismatch:
+            raise InputError([Problem(
+                str(problem.study.path), None, "",
+                f"the optuna study '{problem.study_name}' in the storage cannot be resumed: "
+                + " and ".join(mismatch) + "; use a new run folder or storage",
+            )])
+    else:
+        ostudy.set_user_attr(ATTR_STUDY_TEXT, problem.study.source_text)
+        ostudy.set_user_attr(ATTR_STUDY_PATH, str(problem.study.path))
+        ostudy.set_user_attr(ATTR_CATALOG_PATH, str(problem.catalog.folder))
+        ostudy.set_user_attr(ATTR_CATALOG_HASH, catalog_hash)
+        ostudy.set_user_attr(ATTR_OBJECTIVES, problem.objectives)
+        ostudy.set_user_attr(ATTR_SAMPLER, sampler_name)
+        ostudy.set_user_attr(ATTR_BATCH, int(batch_size))
+        ostudy.set_user_attr(ATTR_VERSION, __version__)
+    if attrs.get(ATTR_TARGET) != int(target):
+        ostudy.set_user_attr(ATTR_TARGET, int(target))
+    return ostudy
+
+
+def fail_stale_trials(ostudy: optuna.Study) -> int:
+    """Mark trials left RUNNING (by a killed process) as FAIL; returns how many.
+
+    Only for a study no other process is working on: a worker's in-flight trials are
+    RUNNING too.
+    """
+    stale = ostudy.get_trials(deepcopy=False, states=(TrialState.RUNNING,))
+    for trial in stale:
+        ostudy._storage.set_trial_state_values(trial._trial_id, TrialState.FAIL)
+    return len(stale)
+
+
+def complete_count(ostudy: optuna.Study) -> int:
+    """Number of COMPLETE trials, read from the storage."""
+    return ostudy._storage.get_n_trials(ostudy._study_id, state=TrialState.COMPLETE)
+
+
+def _store_constraints(ostudy: optuna.Study, trial: optuna.Trial, values: np.ndarray) -> None:
+    # One storage write for the whole vector, in the list form that optuna's samplers and
+    # `FrozenTrial.constraints` read (the per-key `Trial.set_constraint` costs one write
+    # per constraint, which dominates the time per trial on a database).
+    ostudy._storage.set_trial_system_attr(
+        trial._trial_id, _CONSTRAINTS_KEY, [float(v) for v in values]
+    )
+
+
+@dataclass
+class RunCounts:
+    """What `run_trials` did in this call."""
+
+    asked: int = 0
+    told: int = 0
+    duplicates: int = 0
+    failed_stale: int = 0
+    wall_time_s: float = 0.0
+    interrupted: bool = False
+
+
+#: Consecutive batches without a single new design after which duplicates are evaluated
+#: again (the sampler has exhausted its neighbourhood, or the space is tiny).
+DUPLICATE_PATIENCE = 5
+
+
+def run_trials(
+    ostudy: optuna.Study,
+    problem: OptunaProblem,
+    target: int,
+    batch_size: int,
+    progress: Callable[[int, int], None] | None = None,
+    deduplicate: bool = True,
+) -> RunCounts:
+    """Ask, evaluate and tell batches until the study has ``target`` COMPLETE trials.
+
+    The COMPLETE count is read from the storage before every batch, so other processes
+    working on the same study are taken into account. A trial that proposes a design
+    already evaluated (in the storage when this call started, or by this call) is told
+    FAIL without evaluation and not counted: genetic samplers otherwise fill their
+    population with copies of a few designs. A KeyboardInterrupt fails the batch in
+    flight and returns with ``interrupted`` set.
+    """
+    counts = RunCounts()
+    start = time.perf_counter()
+    seen: set[tuple] = set()
+    if deduplicate:
+        seen.update(problem.design_keys(harvest(ostudy, problem).table))
+    barren_batches = 0
+    in_flight: list[optuna.Trial] = []
+    try:
+        while True:
+            done = complete_count(ostudy)
+            if progress:
+                progress(done, target)
+            if done >= target:
+                break
+            size = min(batch_size, target - done)
+            in_flight = [ostudy.ask() for _ in range(size)]
+            counts.asked += size
+            for trial in in_flight:
+                problem.suggest(trial)
+            table = problem.decode([t.number for t in in_flight],
+                                   [t.params for t in in_flight])
+            keep = np.ones(size, dtype=bool)
+            if deduplicate and barren_batches < DUPLICATE_PATIENCE:
+                for k, key in enumerate(problem.design_keys(table)):
+                    keep[k] = key not in seen
+                    seen.add(key)
+            barren_batches = barren_batches + 1 if not keep.any() else 0
+            for k in np.flatnonzero(~keep):
+                ostudy.tell(in_flight[k], state=TrialState.FAIL)
+            counts.duplicates += int(np.count_nonzero(~keep))
+            rows = np.flatnonzero(keep)
+            if rows.size:
+                objectives, violations = problem.evaluate(table.take(rows))
+                for j, k in enumerate(rows):
+                    _store_constraints(ostudy, in_flight[k], violations[j])
+                    ostudy.tell(in_flight[k], objectives[j].tolist())
+            counts.told += int(rows.size)
+            in_flight = []
+    except KeyboardInterrupt:
+        counts.interrupted = True
+        for trial in in_flight:
+            # A trial that was already told stays as it is.
+            with contextlib.suppress(Exception):
+                ostudy.tell(trial, state=TrialState.FAIL)
+    counts.wall_time_s = time.perf_counter() - start
+    return counts
+
+
+# ---------------------------------------------------------------------------------------
+# From the trials to a result
+# ---------------------------------------------------------------------------------------
+
+
+@dataclass
+class Harvest:
+    """Every COMPLETE trial, decoded, with its objectives and constraint values."""
+
+    table: TrialTable
+    objectives: np.ndarray
+    violations: np.ndarray
+
+    @property
+    def feasible(self) -> np.ndarray:
+        return ~(self.violations > 0).any(axis=1)
+
+
+def harvest(ostudy: optuna.Study, problem: OptunaProblem) -> Harvest:
+    """Read every COMPLETE trial back from the storage."""
+    trials = ostudy.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
+    n_con = len(model.CONSTRAINTS)
+    objectives = np.array([t.values for t in trials], dtype=float).reshape(
+        len(trials), len(problem.objectives))
+    violations = np.array(
+        [[t.constraints.get(str(i), 1.0) for i in range(n_con)] for t in trials], dtype=float
+    ).reshape(len(trials), n_con)
+    table = problem.decode([t.number for t in trials], [t.params for t in trials])
+    return Harvest(table, objectives, violations)
+
+
+def _front(objectives: np.ndarray, rows: np.ndarray) -> np.ndarray:
+    """Rows (of ``rows``) on the Pareto front of ``objectives[rows]``."""
+    front = RunningFront(objectives.shape[1])
+    if rows.size:
+        front.offer(objectives[rows], {"row": rows})
+    return front.payload.get("row", np.empty(0, dtype=np.int64))
+
+
+def custom_vs_catalogue(
+    catalogue_volume: np.ndarray, catalogue_loss: np.ndarray,
+    custom_volume: np.ndarray, custom_loss: np.ndarray,
+) -> list[dict]:
+    """For each catalogue design, the smallest custom volume at the same or lower loss.
+
+    Returns one row per catalogue design (sorted by loss): its loss and volume, the best
+    custom volume with loss <= it (None when no custom design is that efficient) and the
+    ratio catalogue volume / custom volume (> 1: the catalogue design is that much larger).
+    """
+    rows = []
+    for k in np.argsort(catalogue_loss, kind="stable"):
+        ok = custom_loss <= catalogue_loss[k]
+        best = float(custom_volume[ok].min()) if ok.any() else None
+        rows.append({
+            "loss_W": float(catalogue_loss[k]),
+            "catalogue_volume_cm3": float(catalogue_volume[k]),
+            "custom_volume_cm3": best,
+            "volume_ratio": (float(catalogue_volume[k]) / best) if best else None,
+        })
+    return rows
+
+
+def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts: RunCounts,
+                 settings: dict):
+    """The `ExploreResult` of the study's COMPLETE trials (the exhaustive search's
+    assembly, fed with the optuna front)."""
+    from optimag.search.run import _assemble
+
+    crop = harvest(ostudy, problem)
+    table = crop.table
+    feasible_rows = np.flatnonzero(crop.feasible)
+    combined = _front(crop.objectives, feasible_rows)
+    custom_front = catalogue_front = np.empty(0, dtype=np.int64)
+    if problem.custom is not None:
+        custom_front = _front(crop.objectives, feasible_rows[table.is_custom[feasible_rows]])
+        catalogue_front = _front(crop.objectives, feasible_rows[~table.is_custom[feasible_rows]])
+    near = np.empty(0, dtype=np.int64)
+    if feasible_rows.size == 0 and len(table):
+        worst = crop.violations.max(axis=1)
+        near = np.argsort(worst, kind="stable")[:NEAR_MISS_COUNT]
+
+    needed = np.unique(np.concatenate([combined, custom_front, catalogue_front, near]))
+    sub = table.take(needed)
+    space, candidates = problem.materialise(sub)
+    position = {int(r): k for k, r in enumerate(needed)}
+
+    front = RunningFront(len(problem.objectives))
+    if combined.size:
+        pick = np.array([position[int(r)] for r in combined])
+        front.offer(crop.objectives[combined], {
+            f: getattr(candidates, f)[pick] for f in CANDIDATE_FIELDS})
+    eliminated = dict.fromkeys(model.CONSTRAINTS, 0)
+    first = model.first_violated(crop.violations) if len(table) else np.empty(0, dtype=int)
+    for index, name in enumerate(model.CONSTRAINTS):
+        eliminated[name] = int(np.count_nonzero(first == index))
+    near_candidates = None
+    near_violation = np.empty(0)
+    if near.size:
+        near_candidates = candidates.take(np.array([position[int(r)] for r in near]))
+        near_violation = crop.violations[near].max(axis=1)
+    outcome = ExhaustiveOutcome(
+        front=front, total=len(table), feasible=int(feasible_rows.size),
+        eliminated=eliminated, near_misses=near_candidates,
+        near_miss_violation=near_violation, wall_time_s=counts.wall_time_s,
+        interrupted=counts.interrupted, stage_sizes={},
+    )
+    result = _assemble(problem.study, problem.catalog, space, problem.objectives, outcome, top)
+
+    record = result.record
+    record["strategy"] = "optuna"
+    record["candidates_per_s"] = round(counts.told / max(counts.wall_time_s, 1e-9), 1)
+    record["optuna"] = {
+        **settings,
+        "complete_trials": len(table),
+        "trials_this_run": counts.told,
+        "stale_trials_failed": counts.failed_stale,
+        "trials_per_s": record["candidates_per_s"],
+        "optuna_version": optuna.__version__,
+    }
+    if problem.custom is not None:
+        on_front = table.take(np.unique(np.concatenate([combined, custom_front])))
+        cores = problem.custom_records(on_front)
+        record["custom_cores"] = cores
+        for rec in result.shortlist_records + result.near_miss_records:
+            if rec.get("core") in cores:
+                rec["custom_core"] = cores[rec["core"]]
+        record["custom_vs_catalogue"] = _custom_comparison(
+            problem, space, candidates, position, catalogue_front, custom_front)
+    return result
+
+
+def _custom_comparison(problem, space, candidates, position, catalogue_front, custom_front):
+    if catalogue_front.size == 0 or custom_front.size == 0:
+        return {"rows": [], "note": "needs feasible designs on both catalogue and custom cores"}
+    figures = {}
+    for label, rows in (("catalogue", catalogue_front), ("custom", custom_front)):
+        metrics = model.evaluate(
+            space, candidates.take(np.array([position[int(r)] for r in rows])))
+        figures[label] = (metrics["volume_cm3"], metrics["total_loss_W"])
+    rows = custom_vs_catalogue(*figures["catalogue"], *figures["custom"])
+    ratios = [r["volume_ratio"] for r in rows if r["volume_ratio"] is not None]
+    return {
+        "rows": rows,
+        "median_volume_ratio": float(np.median(ratios)) if ratios else None,
+        "note": "catalogue front designs against the smallest custom-core design with the "
+        "same or lower loss; ratio = catalogue volume / custom volume",
+    }
+
+
+# ---------------------------------------------------------------------------------------
+# Entry points
+# ---------------------------------------------------------------------------------------
+
+
+def explore_optuna(
+    study,
+    catalog=None,
+    trials: int | None = None,
+    seed: int | None = None,
+    top: int = 20,
+    storage: str | None = None,
+    run_dir: str | Path | None = None,
+    *,
+    sampler: str | None = None,
+    batch_size: int | None = None,
+    population_size: int = DEFAULT_POPULATION,
+    progress: Callable[[int, int], None] | None = None,
+):
+    """Search the study's design space with optuna and return an `ExploreResult`.
+
+    ``trials``, ``seed``, ``sampler`` and ``batch_size`` default to the study's
+    ``[search]`` values. ``storage`` is an SQLAlchemy URL; without it the study is kept in
+    ``<run_dir>/optuna.db``, or in memory when ``run_dir`` is None. An existing study of
+    the same name in the storage is resumed up to ``trials`` COMPLETE trials.
+    """
+    from optimag.catalog import load_catalog
+    from optimag.search.run import check_study_against_catalog
+    from optimag.spec import load_study
+
+    if not hasattr(study, "search"):
+        study = load_study(Path(study))
+    if catalog is None:
+        catalog = load_catalog(study.catalog.path)
+    check_study_against_catalog(study, catalog)
+    search = study.search
+    trials = int(search.trials if trials is None else trials)
+    seed = int(search.seed if seed is None else seed)
+    sampler_name = sampler or search.sampler
+    batch_size = int(batch_size or search.batch_size)
+
+    problem = OptunaProblem(study, catalog)
+    url = storage_url_for(run_dir, storage)
+    ostudy = open_optuna_study(
+        problem, url, make_sampler(sampler_name, seed, population_size), target=trials,
+        batch_size=batch_size, sampler_name=sampler_name,
+    )
+    stale = fail_stale_trials(ostudy)
+    counts = run_trials(ostudy, problem, trials, batch_size, progress=progress)
+    counts.failed_stale = stale
+    settings = {
+        "sampler": sampler_name, "seed": seed, "trials": trials,
+        "storage": shown_storage(url), "study_name": problem.study_name,
+        "batch_size": batch_size, "population_size": population_size,
+    }
+    return build_result(ostudy, problem, top, counts, settings)
+
+
+def load_problem_from_storage(ostudy: optuna.Study, study_file: str | Path | None = None):
+    """Rebuild the study, catalogue and problem of an optuna study from its user attrs
+    (or from ``study_file``), checking that the catalogue is the one the study used."""
+    from optimag.catalog import load_catalog
+    from optimag.spec import load_study, parse_study
+
+    attrs = ostudy.user_attrs
+    if ATTR_STUDY_TEXT not in attrs:
+        raise InputError([Problem(ostudy.study_name, None, "",
+                                  "this optuna study was not created by optimag")])
+    if study_file is not None:
+        study = load_study(Path(study_file))
+    else:
+        study = parse_study(attrs[ATTR_STUDY_TEXT], attrs[ATTR_STUDY_PATH])
+    catalog = load_catalog(study.catalog.path)
+    if str(catalog.content_hash) != attrs.get(ATTR_CATALOG_HASH):
+        raise InputError([Problem(
+            str(study.catalog.path), None, "",
+            f"catalogue differs from the one the optuna study '{ostudy.study_name}' was "
+            "started with (content hash mismatch)",
+        )])
+    problem = OptunaProblem(study, catalog)
+    if problem.study_name != ostudy.study_name:
+        raise InputError([Problem(
+            str(study.path), None, "",
+            f"study file describes '{problem.study_name}', not '{ostudy.study_name}'",
+        )])
+    return problem
+
+
+def run_worker(
+    storage: str,
+    study_name: str,
+    study_file: str | Path | None = None,
+    trials: int | None = None,
+    batch_size: int | None = None,
+    seed: int | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> RunCounts:
+    """Join the optuna study ``study_name`` in ``storage`` and add trials until it holds
+    ``trials`` COMPLETE trials (default: the target its creator recorded).
+
+    The worker samples with the study's sampler kind; ``seed`` defaults to None because
+    workers sharing one seed would propose the same designs.
+    """
+    optuna.logging.set_verbosity(optuna.logging.WARNING)
+    probe = optuna.load_study(study_name=study_name, storage=storage)
+    attrs = probe.user_attrs
+    problem = load_problem_from_storage(probe, study_file)
+    target = int(trials if trials is not None else attrs.get(ATTR_TARGET, 0))
+    batch = int(batch_size or attrs.get(ATTR_BATCH, problem.study.search.batch_size))
+    sampler_name = attrs.get(ATTR_SAMPLER, problem.study.search.sampler)
+    ostudy = optuna.load_study(
+        study_name=study_name, storage=storage, sampler=make_sampler(sampler_name, seed)
+    )
+    return run_trials(ostudy, problem, target, batch, progress=progress)
