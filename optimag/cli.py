@@ -35,9 +35,11 @@ def _check(path_text: str) -> int:
         _print_problems(error.problems)
         return 2
     print(
-        f"OK: study '{study.name}' ({study.converter.topology}, "
+        f"OK: study '{study.name}' "
+        f"({study.converter.topology}, "
         f"{len(study.operating_points)} operating point(s)); catalogue {study.catalog.path}: "
-        f"{len(catalog.cores)} cores, {len(catalog.materials)} materials, {len(catalog.wires)} wires"
+        f"{len(catalog.cores)} cores, {len(catalog.materials)} materials, "
+        f"{len(catalog.wires)} wires"
     )
     return 0
 
@@ -87,7 +89,7 @@ def _explore(args) -> int:
     run_dir = write_run(result, Path(args.out) if args.out else None)
     _write_report(run_dir, console)
     counts = result.record["counts"]
-    out = Console()
+    out = Console() if sys.stdout.isatty() else Console(width=160)
     if result.record.get("interrupted"):
         out.print("[yellow]Interrupted: the results below cover the candidates evaluated "
                   "before the stop.[/yellow]")

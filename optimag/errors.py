@@ -34,7 +34,9 @@ class Problem:
 
     def __str__(self) -> str:
         where = self.file if self.line is None else f"{self.file}:{self.line}"
-        return f"{where}: {self.field}: {self.message}" if self.field else f"{where}: {self.message}"
+        if self.field:
+            return f"{where}: {self.field}: {self.message}"
+        return f"{where}: {self.message}"
 
 
 class InputError(Exception):

@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from optimag.constants import COPPER_RESISTIVITY_20C, COPPER_TEMPCO_20C
+from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import coreloss, geometry, magnetic, thermal, winding
 

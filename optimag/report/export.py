@@ -17,10 +17,30 @@ from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.physics import magnetic, winding
 
 PARETO_COLUMNS = [
-    "design_id", "core", "family", "material", "material_kind", "stack", "turns", "gap_mm",
-    "wire", "wire_kind", "parallel", "volume_cm3", "total_loss_W", "cost", "mass_g",
-    "temperature_C", "peak_flux_T", "fill_factor", "core_loss_W", "winding_dc_loss_W",
-    "winding_ac_loss_W", "inductance_uH", "inductance_at_peak_uH", "knee",
+    "design_id",
+    "core",
+    "family",
+    "material",
+    "material_kind",
+    "stack",
+    "turns",
+    "gap_mm",
+    "wire",
+    "wire_kind",
+    "parallel",
+    "volume_cm3",
+    "total_loss_W",
+    "cost",
+    "mass_g",
+    "temperature_C",
+    "peak_flux_T",
+    "fill_factor",
+    "core_loss_W",
+    "winding_dc_loss_W",
+    "winding_ac_loss_W",
+    "inductance_uH",
+    "inductance_at_peak_uH",
+    "knee",
 ]
 
 _FAMILY_NAMES = {v: k for k, v in model.FAMILY_CODES.items()}
@@ -39,8 +59,14 @@ def _r(value: float, digits: int = 6) -> float:
     return float(f"{value:.{digits}g}")
 
 
-def inductance_curve(space: model.DesignSpace, candidates: model.Candidates, i: int,
-                     metrics: dict, peak_current_A: float, temperature_C: float) -> dict:
+def inductance_curve(
+    space: model.DesignSpace,
+    candidates: model.Candidates,
+    i: int,
+    metrics: dict,
+    peak_current_A: float,
+    temperature_C: float,
+) -> dict:
     """Incremental inductance from zero to 1.5 x peak current for candidate ``i``.
 
     Powder: the roll-off law. Gapped ferrite: constant until the narrowest section reaches
@@ -56,7 +82,13 @@ def inductance_curve(space: model.DesignSpace, candidates: model.Candidates, i: 
     ae, le = c.ae_m2[core] * stack, c.le_m[core]
     if m.kind[mat] == 1:
         values = magnetic.powder_inductance(
-            turns, currents, le, ae, m.mu_i[mat], m.rolloff_a[mat], m.rolloff_b[mat],
+            turns,
+            currents,
+            le,
+            ae,
+            m.mu_i[mat],
+            m.rolloff_a[mat],
+            m.rolloff_b[mat],
             m.rolloff_c[mat],
         )
     else:
@@ -111,19 +143,21 @@ def design_records(
         peak_current = op.peak_A
         per_point = []
         for k, name in enumerate(op.names):
-            per_point.append({
-                "name": name,
-                "time_share": _r(op.share[k]),
-                "core_loss_W": _r(metrics["core_loss_W"][i, k]),
-                "winding_dc_loss_W": _r(metrics["winding_dc_loss_W"][i, k]),
-                "winding_ac_loss_W": _r(metrics["winding_ac_loss_W"][i, k]),
-                "total_loss_W": _r(metrics["point_loss_W"][i, k]),
-                "peak_flux_T": _r(metrics["peak_flux_T"][i, k]),
-                "flux_swing_T": _r(metrics["flux_swing_T"][i, k]),
-                "peak_current_A": _r(peak_current[k]),
-                "temperature_C": _r(temps[k]) if not runaway[k] else None,
-                "dcm": bool(op.dcm[k]),
-            })
+            per_point.append(
+                {
+                    "name": name,
+                    "time_share": _r(op.share[k]),
+                    "core_loss_W": _r(metrics["core_loss_W"][i, k]),
+                    "winding_dc_loss_W": _r(metrics["winding_dc_loss_W"][i, k]),
+                    "winding_ac_loss_W": _r(metrics["winding_ac_loss_W"][i, k]),
+                    "total_loss_W": _r(metrics["point_loss_W"][i, k]),
+                    "peak_flux_T": _r(metrics["peak_flux_T"][i, k]),
+                    "flux_swing_T": _r(metrics["flux_swing_T"][i, k]),
+                    "peak_current_A": _r(peak_current[k]),
+                    "temperature_C": _r(temps[k]) if not runaway[k] else None,
+                    "dcm": bool(op.dcm[k]),
+                }
+            )
         temperature = float(temps[hot])
         rdc_hot = metrics["dc_resistance_20C_ohm"][i] * float(
             winding.copper_resistivity(temperature) / COPPER_RESISTIVITY_20C
@@ -192,9 +226,7 @@ def design_records(
                 "steinmetz_k": _r(m.k[mat]),
                 "steinmetz_alpha": _r(m.alpha[mat]),
                 "steinmetz_beta": _r(m.beta[mat]),
-                "core_loss_temperature_factor": _r(
-                    metrics["core_loss_temperature_factor"][i, hot]
-                ),
+                "core_loss_temperature_factor": _r(metrics["core_loss_temperature_factor"][i, hot]),
             },
             "margins": {
                 "flux_T": _r(metrics["worst_flux_T"][i]),
@@ -230,9 +262,7 @@ def design_records(
 
 def records_frame(records: list[dict]) -> pd.DataFrame:
     """Flat table of records (nested parts dropped), columns as in `PARETO_COLUMNS`."""
-    flat = [
-        {k: v for k, v in r.items() if not isinstance(v, dict | list)} for r in records
-    ]
+    flat = [{k: v for k, v in r.items() if not isinstance(v, dict | list)} for r in records]
     frame = pd.DataFrame(flat)
     return frame
 
@@ -244,10 +274,13 @@ def write_tables(run_dir: Path, pareto: pd.DataFrame, shortlist_records: list[di
     shortlist.to_csv(run_dir / "shortlist.csv", index=False)
     with pd.ExcelWriter(run_dir / "shortlist.xlsx", engine="openpyxl") as writer:
         shortlist.to_excel(writer, sheet_name="shortlist", index=False)
-        per_point = pd.DataFrame([
-            {"design_id": r["design_id"], **p} for r in shortlist_records
-            for p in r["per_operating_point"]
-        ])
+        per_point = pd.DataFrame(
+            [
+                {"design_id": r["design_id"], **p}
+                for r in shortlist_records
+                for p in r["per_operating_point"]
+            ]
+        )
         per_point.to_excel(writer, sheet_name="operating_points", index=False)
     (run_dir / "shortlist.json").write_text(
         json.dumps({"designs": shortlist_records}, indent=1, allow_nan=False), encoding="utf-8"

@@ -194,9 +194,10 @@ def _process_group_batch(
 ):
     """Winding stage for a batch of (core, stack, turns) groups, then the join and the final
     stage. Yields (candidates, metrics, number of candidates accounted for)."""
-    n_wire, n_par = len(space.wires.ids), len(space.parallels)
+    n_wire = len(space.wires.ids)
     first_row = mag_pass[group_start]
-    g_core, g_stack, g_turns = mag["core"][first_row], mag["stack"][first_row], mag["turns"][first_row]
+    g_core, g_stack = mag["core"][first_row], mag["stack"][first_row]
+    g_turns = mag["turns"][first_row]
     gi, wire, parallel = _grid(np.arange(len(groups)), np.arange(n_wire), space.parallels)
     core, stack, turns = g_core[gi], g_stack[gi], g_turns[gi]
     layout = model.winding_layout_stage(space, core, stack, turns, wire, parallel)

@@ -22,7 +22,7 @@ LARGE_SPACE_EDIT = {
     "turns_min = ": "turns_min = 1\n#",
     "turns_max = ": "turns_max = 160\n#",
     "stack_max = ": "stack_max = 3\n#",
-    "parallel_max = ": "parallel_max = 8\n#",
+    "parallel_max = ": "parallel_max = 12\n#",
 }
 
 CHILD = r"""
@@ -95,7 +95,8 @@ def large_study(tmp: Path) -> Path:
     for key, new in LARGE_SPACE_EDIT.items():
         if key.strip() not in body:
             body = body.replace("[search]\n", f"[search]\n{new.split(chr(10))[0]}\n")
-    body = body.replace('path = "../catalogs/demo"', f'path = "{(ROOT / "catalogs/demo").as_posix()}"')
+    demo = (ROOT / "catalogs/demo").as_posix()
+    body = body.replace('path = "../catalogs/demo"', f'path = "{demo}"')
     path = tmp / "large.toml"
     path.write_text(body, encoding="utf-8")
     return path

@@ -38,7 +38,8 @@ def test_front_equals_per_design_brute_force(tiny_study_path):
     feasible_rows, feasible_obj = [], []
     for row in rows:
         cand = model.Candidates.from_arrays(**dict(zip(
-            ("core", "stack", "material", "turns", "gap_option", "wire", "parallel"), row)))
+            ("core", "stack", "material", "turns", "gap_option", "wire", "parallel"), row,
+            strict=True)))
         metrics = model.evaluate(space, cand)
         if metrics["feasible"][0]:
             feasible_rows.append(tuple(row))
@@ -92,7 +93,8 @@ def test_shortlist_is_reproducible_and_undominated(tiny_study_path):
 def test_no_feasible_design_gives_counts_and_near_misses(make_tiny_study, capsys, tmp_path):
     # 40 degC of headroom is impossible at 0.05 W budget: every design fails the loss budget
     # or an earlier constraint.
-    path = make_tiny_study(replace={"max_fill_factor = 0.5": "max_fill_factor = 0.5\nmax_loss_W = 0.005"})
+    budget = "max_fill_factor = 0.5\nmax_loss_W = 0.005"
+    path = make_tiny_study(replace={"max_fill_factor = 0.5": budget})
     result = explore(path)
     assert len(result.pareto) == 0
     counts = result.record["counts"]

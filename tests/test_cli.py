@@ -1,0 +1,82 @@
+"""End-to-end: the real `optimag` command on the demo catalogue and example studies."""
+
+import json
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+STUDIES = sorted((ROOT / "studies").glob("*.toml"))
+
+RECORD_FIELDS = {
+    "design_id", "core", "material", "stack", "turns", "gap_mm", "wire", "parallel", "layers",
+    "fill_factor", "inductance_uH", "inductance_at_peak_uH", "peak_current_A", "peak_flux_T",
+    "flux_swing_T", "core_loss_W", "winding_dc_loss_W", "winding_ac_loss_W", "total_loss_W",
+    "temperature_C", "volume_cm3", "mass_g", "cost", "operating_point", "dcm",
+    "per_operating_point", "inputs",
+}
+INPUT_FIELDS = {
+    "Ae_mm2", "le_mm", "Ve_mm3", "mu_r", "window_breadth_mm", "mlt_mm", "copper_area_mm2",
+    "dc_resistance_mOhm", "frequency_kHz", "dc_current_A", "ripple_A", "duty", "steinmetz_k",
+    "steinmetz_alpha", "steinmetz_beta", "core_loss_temperature_factor",
+}
+
+
+def optimag(*args, cwd=ROOT):
+    exe = shutil.which("optimag")
+    command = [exe] if exe else [sys.executable, "-m", "optimag.cli"]
+    return subprocess.run([*command, *args], capture_output=True, text=True, cwd=cwd,
+                          timeout=600)
+
+
+@pytest.mark.parametrize("study", STUDIES, ids=lambda p: p.stem)
+def test_check_accepts_the_example_studies(study):
+    done = optimag("check", str(study))
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.startswith("OK")
+
+
+def test_check_accepts_the_demo_catalogue():
+    done = optimag("check", "catalogs/demo")
+    assert done.returncode == 0, done.stderr
+
+
+def test_readme_demo_command_writes_the_run_folder(tmp_path):
+    """The README's demo runs `optimag explore studies/cargo-bike-buck.toml`."""
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    assert "optimag explore studies/cargo-bike-buck.toml" in readme
+    out = tmp_path / "run"
+    done = optimag("explore", "studies/cargo-bike-buck.toml", "--out", str(out), "--top", "7")
+    assert done.returncode == 0, done.stderr
+    assert "Traceback" not in done.stderr
+    for name in ("study.toml", "run.json", "pareto.csv", "shortlist.csv", "shortlist.xlsx",
+                 "shortlist.json"):
+        assert (out / name).is_file(), name
+    record = json.loads((out / "run.json").read_text())
+    assert record["counts"]["total"] == record["counts"]["feasible"] + sum(
+        record["counts"]["eliminated"].values())
+    assert record["candidates_per_s"] > 0 and record["catalog_hash"]
+    designs = json.loads((out / "shortlist.json").read_text())["designs"]
+    assert 1 <= len(designs) <= 7
+    for design in designs:
+        assert design.keys() >= RECORD_FIELDS
+        assert design["inputs"].keys() >= INPUT_FIELDS
+        assert len(design["per_operating_point"]) == 3
+        assert design["temperature_C"] <= 110.0
+        assert design["fill_factor"] <= 0.45
+    pareto = pd.read_csv(out / "pareto.csv")
+    assert {"volume_cm3", "total_loss_W", "cost", "mass_g"} <= set(pareto.columns)
+    assert len(pd.read_excel(out / "shortlist.xlsx")) == len(designs)
+
+
+def test_bad_study_gives_problems_not_traceback(tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[study]\nname = 'x'\n[converter]\ntopology = 'flyback'\n")
+    done = optimag("explore", str(bad))
+    assert done.returncode == 2
+    assert "Traceback" not in done.stderr
+    assert "topology" in done.stderr
