@@ -18,6 +18,7 @@ def _print_problems(problems: list[Problem]) -> None:
 
 def _check(path_text: str) -> int:
     from optimag.catalog import load_catalog
+    from optimag.search.run import check_study_against_catalog
     from optimag.spec import load_study
 
     path = Path(path_text)
@@ -31,6 +32,7 @@ def _check(path_text: str) -> int:
             return 0
         study = load_study(path)
         catalog = load_catalog(study.catalog.path)
+        check_study_against_catalog(study, catalog)
     except InputError as error:
         _print_problems(error.problems)
         return 2

@@ -7,6 +7,7 @@ inputs those figures were computed from, so that a reader can re-derive them by 
 from __future__ import annotations
 
 import json
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -14,7 +15,8 @@ import pandas as pd
 
 from optimag import model
 from optimag.constants import COPPER_RESISTIVITY_20C
-from optimag.physics import magnetic, winding
+from optimag.errors import ValidityRangeWarning
+from optimag.physics import coreloss, magnetic, winding
 
 PARETO_COLUMNS = [
     "design_id",
@@ -251,6 +253,7 @@ def design_records(
                 "height": _r(metrics["box_height_m"][i] * 1e3),
             },
         }
+        record["model_notes"] = _model_notes(space, candidates, metrics, i)
         if not record["feasible"]:
             viol = model.violations_matrix({k: v[i : i + 1] for k, v in metrics.items()})[0]
             worst = int(np.argmax(viol))
@@ -258,6 +261,36 @@ def design_records(
             record["worst_violation"] = _r(viol[worst])
         records.append(record)
     return records
+
+
+def _model_notes(space, candidates, metrics, i) -> list[str]:
+    """Where this design's figures rest on a model used outside its stated range."""
+    m, c, op = space.materials, space.cores, space.operating
+    mat, core = candidates.material[i], candidates.core[i]
+    notes = []
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityRangeWarning)
+        inside = coreloss.steinmetz_validity_check(
+            op.frequency_Hz, metrics["peak_flux_T"][i], m.f_min_Hz[mat], m.f_max_Hz[mat],
+            m.b_max_T[mat],
+        )
+    if not np.all(inside):
+        notes.append(
+            f"core loss: the Steinmetz fit of {m.ids[mat]} holds for "
+            f"{m.f_min_Hz[mat] / 1e3:g}-{m.f_max_Hz[mat] / 1e3:g} kHz and up to "
+            f"{m.b_max_T[mat]:g} T; this design runs at {op.frequency_Hz / 1e3:g} kHz and "
+            f"{float(np.max(metrics['peak_flux_T'][i])):.3f} T peak"
+        )
+    gap = metrics["gap_m"][i]
+    if gap > 0 and space.requirements.fringing == "mclyman" and gap > c.breadth_m[core]:
+        notes.append("gap fringing: gap longer than the winding breadth, beyond the range "
+                     "of McLyman's fringing factor")
+    wire = candidates.wire[i]
+    depth = winding.skin_depth(op.frequency_Hz, winding.copper_resistivity(100.0))
+    if space.wires.kind[wire] == 1 and space.wires.strand_diameter_m[wire] > depth:
+        notes.append("litz: strands thicker than the skin depth at the switching frequency; "
+                     "the strand-level proximity factor underestimates the AC loss")
+    return notes
 
 
 def records_frame(records: list[dict]) -> pd.DataFrame:

@@ -125,3 +125,30 @@ def test_chunk_size_does_not_change_the_front(tiny_study_path):
     order_s = np.lexsort(small.front.objectives.T)
     order_l = np.lexsort(large.front.objectives.T)
     np.testing.assert_allclose(small.front.objectives[order_s], large.front.objectives[order_l])
+
+
+def test_interrupt_keeps_what_was_found(tiny_study_path):
+    """Ctrl-C (KeyboardInterrupt) stops the pass cleanly with the partial front."""
+    study, space = _space(tiny_study_path)
+    calls = []
+
+    def stop_after_a_few(done, total):
+        calls.append(done)
+        if len(calls) == 4:
+            raise KeyboardInterrupt
+
+    outcome = explore_exhaustive(space, list(study.search.objectives), chunk_size=50,
+                                 progress=stop_after_a_few)
+    assert outcome.interrupted
+    assert len(calls) == 4
+    full = explore_exhaustive(space, list(study.search.objectives))
+    assert sum(outcome.eliminated.values()) + outcome.feasible < full.total
+
+
+def test_unknown_filter_id_is_reported_with_suggestion(make_tiny_study, capsys):
+    from optimag.cli import main
+
+    path = make_tiny_study(replace={'"fer-midf"': '"fer-mid"'})
+    assert main(["check", str(path)]) == 2
+    err = capsys.readouterr().err
+    assert "search.materials" in err and "did you mean 'fer-midf'" in err
