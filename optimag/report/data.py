@@ -1,0 +1,772 @@
+"""Data step of the run report: pure functions from a run folder to tables.
+
+Everything the page shows is computed here, as pandas DataFrames or small dataclasses,
+so it can be tested without a browser. The renderers in `figures` and `html` only
+format and draw what these functions return.
+
+Geometry of the winding drawing (all lengths in mm), following the model's layout:
+``window_breadth_mm`` (y, along the leg) × ``window_width_mm`` (x, across the build,
+x = 0 at the bobbin surface on the centre-leg side) is the space the conductors are
+laid in. A bobbin of wall ``bobbin_wall_mm`` lies outside that space: a tube between
+it and the centre leg and a flange at each end. Conductors go from the centre leg
+outwards, layer after layer, and along the breadth inside each layer.
+"""
+
+from __future__ import annotations
+
+import itertools
+import json
+import math
+import re
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from optimag.errors import InputError, Problem
+
+#: Objective name -> (pareto.csv column, axis title, unit; None means the run's currency).
+OBJECTIVES: dict[str, tuple[str, str, str | None]] = {
+    "volume": ("volume_cm3", "Boxed volume", "cm³"),
+    "loss": ("total_loss_W", "Total loss", "W"),
+    "cost": ("cost", "Cost", None),
+    "mass": ("mass_g", "Mass", "g"),
+}
+
+PARETO_TEXT_COLUMNS = (
+    "design_id",
+    "core",
+    "family",
+    "material",
+    "material_kind",
+    "wire",
+    "wire_kind",
+)
+PARETO_NUMBER_COLUMNS = (
+    "stack",
+    "turns",
+    "gap_mm",
+    "parallel",
+    "volume_cm3",
+    "total_loss_W",
+    "cost",
+    "mass_g",
+    "temperature_C",
+    "peak_flux_T",
+    "fill_factor",
+    "core_loss_W",
+    "winding_dc_loss_W",
+    "winding_ac_loss_W",
+    "inductance_uH",
+    "inductance_at_peak_uH",
+)
+PARETO_COLUMNS = (*PARETO_TEXT_COLUMNS, *PARETO_NUMBER_COLUMNS, "knee")
+
+RECORD_FIELDS = (
+    "design_id",
+    "rank",
+    "knee",
+    "core",
+    "family",
+    "material",
+    "material_kind",
+    "stack",
+    "turns",
+    "gap_mm",
+    "wire",
+    "wire_kind",
+    "parallel",
+    "layers",
+    "fill_factor",
+    "inductance_uH",
+    "inductance_at_peak_uH",
+    "peak_current_A",
+    "peak_flux_T",
+    "flux_swing_T",
+    "core_loss_W",
+    "winding_dc_loss_W",
+    "winding_ac_loss_W",
+    "total_loss_W",
+    "temperature_C",
+    "volume_cm3",
+    "mass_g",
+    "cost",
+    "operating_point",
+    "dcm",
+    "per_operating_point",
+    "inputs",
+    "margins",
+    "inductance_curve",
+    "winding",
+    "box_mm",
+)
+MARGIN_FIELDS = (
+    "flux_T",
+    "flux_limit_T",
+    "temperature_C",
+    "temperature_limit_C",
+    "fill_factor",
+    "fill_limit",
+    "inductance_at_peak_fraction",
+    "inductance_at_peak_limit",
+)
+WINDING_FIELDS = (
+    "kind",
+    "conductor_outer_mm",
+    "foil_thickness_mm",
+    "conductors_per_layer",
+    "layers",
+    "turns",
+    "parallel",
+    "window_breadth_mm",
+    "window_width_mm",
+    "bobbin_wall_mm",
+    "build_mm",
+)
+RUN_FIELDS = (
+    "version",
+    "study_name",
+    "study_title",
+    "strategy",
+    "catalog_hash",
+    "objectives",
+    "counts",
+    "operating_points",
+    "limits",
+    "currency",
+)
+
+#: Short-list columns shown side by side on parallel axes, with axis titles.
+PARALLEL_AXES: dict[str, str] = {
+    "turns": "Turns",
+    "gap_mm": "Gap [mm]",
+    "fill_factor": "Fill",
+    "peak_flux_T": "Peak B [T]",
+    "temperature_C": "Temp. [°C]",
+    "total_loss_W": "Loss [W]",
+    "volume_cm3": "Volume [cm³]",
+    "cost": "Cost",
+}
+
+#: What each elimination reason means, in the report's words.
+CONSTRAINT_MEANING: dict[str, str] = {
+    "inductance": "target inductance not reachable within its tolerance",
+    "saturation": "peak flux density above the allowed share of saturation",
+    "inductance_at_peak": "too much inductance lost at peak current",
+    "window_fit": "winding does not fit the window",
+    "fill_factor": "window fill above the allowed fill factor",
+    "height": "taller than the allowed height",
+    "footprint": "board area larger than allowed",
+    "temperature": "temperature above the limit",
+    "thermal_runaway": "no stable operating temperature (loss grows faster than cooling)",
+    "loss_budget": "total loss above the budget",
+}
+
+#: Tolerance when checking that loss components add up to the stated total.
+LOSS_SUM_RELATIVE_TOLERANCE = 1e-3
+LOSS_SUM_ABSOLUTE_TOLERANCE_W = 1e-6
+#: Slack when checking that drawn conductors stay inside the window [mm], plus a
+#: relative part because exported lengths are rounded to 6 significant digits.
+GEOMETRY_TOLERANCE_MM = 1e-6
+GEOMETRY_RELATIVE_TOLERANCE = 1e-5
+
+_FOLDER_STAMP = re.compile(r"-(\d{8}-\d{6})$")
+
+
+@dataclass(frozen=True)
+class RunData:
+    """Everything read from one run folder."""
+
+    folder: Path
+    meta: dict[str, Any]
+    pareto: pd.DataFrame
+    shortlist: list[dict[str, Any]]
+    study_text: str
+    started: datetime | None = None
+
+    @property
+    def objectives(self) -> list[str]:
+        return list(self.meta["objectives"])
+
+    @property
+    def currency(self) -> str:
+        return str(self.meta.get("currency", ""))
+
+    @property
+    def near_misses(self) -> list[dict[str, Any]]:
+        return list(self.meta.get("near_misses") or [])
+
+
+@dataclass(frozen=True)
+class PairView:
+    """One two-objective projection of the front."""
+
+    x: str
+    y: str
+    x_column: str
+    y_column: str
+    x_title: str
+    y_title: str
+    #: Designs not dominated within this pair of objectives, ordered by x.
+    front_ids: tuple[str, ...] = field(default_factory=tuple)
+
+
+def objective_title(objective: str, currency: str) -> str:
+    """Axis title with unit, e.g. ``Total loss [W]`` or ``Cost [EUR]``."""
+    _, title, unit = OBJECTIVES[objective]
+    unit = currency if unit is None else unit
+    return f"{title} [{unit}]" if unit else title
+
+
+def _problem(path: Path, fieldname: str, message: str) -> Problem:
+    return Problem(str(path), None, fieldname, message)
+
+
+def _read_json(path: Path, problems: list[Problem]) -> Any:
+    try:
+        return json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        problems.append(_problem(path, "", "file missing; is this a run folder?"))
+    except json.JSONDecodeError as err:
+        problems.append(Problem(str(path), err.lineno, "", f"not valid JSON: {err.msg}"))
+    return None
+
+
+def _check_record(record: Any, path: Path, position: int, problems: list[Problem]) -> None:
+    if not isinstance(record, dict):
+        problems.append(_problem(path, f"designs[{position}]", "not an object"))
+        return
+    name = f"designs[{position}]"
+    missing = [key for key in RECORD_FIELDS if key not in record]
+    if missing:
+        problems.append(_problem(path, name, f"missing fields: {', '.join(missing)}"))
+        return
+    for group, required in (("margins", MARGIN_FIELDS), ("winding", WINDING_FIELDS)):
+        gone = [key for key in required if key not in (record[group] or {})]
+        if gone:
+            problems.append(_problem(path, f"{name}.{group}", f"missing: {', '.join(gone)}"))
+    curve = record["inductance_curve"] or {}
+    if len(curve.get("current_A", [])) != len(curve.get("inductance_uH", [])) or not curve.get(
+        "current_A"
+    ):
+        problems.append(
+            _problem(path, f"{name}.inductance_curve", "current_A and inductance_uH differ")
+        )
+
+
+def _folder_time(folder: Path) -> datetime | None:
+    match = _FOLDER_STAMP.search(folder.name)
+    if match:
+        try:
+            return datetime.strptime(match.group(1), "%Y%m%d-%H%M%S")
+        except ValueError:
+            pass
+    run_file = folder / "run.json"
+    if run_file.exists():
+        return datetime.fromtimestamp(run_file.stat().st_mtime, tz=UTC).replace(tzinfo=None)
+    return None
+
+
+def load_run(run_dir: Path | str) -> RunData:
+    """Read a run folder written by ``optimag explore``.
+
+    Every problem found (missing file, missing column, unknown objective, incomplete
+    design record) is collected and raised together as one `InputError`.
+    """
+    folder = Path(run_dir)
+    problems: list[Problem] = []
+    if not folder.is_dir():
+        raise InputError([_problem(folder, "", "run folder not found")])
+
+    meta = _read_json(folder / "run.json", problems)
+    if meta is not None:
+        if not isinstance(meta, dict):
+            problems.append(_problem(folder / "run.json", "", "top level is not an object"))
+            meta = None
+        else:
+            missing = [key for key in RUN_FIELDS if key not in meta]
+            if missing:
+                problems.append(
+                    _problem(folder / "run.json", "", f"missing keys: {', '.join(missing)}")
+                )
+            unknown = [o for o in meta.get("objectives", []) if o not in OBJECTIVES]
+            if unknown or not meta.get("objectives"):
+                problems.append(
+                    _problem(
+                        folder / "run.json",
+                        "objectives",
+                        f"need one or more of {', '.join(OBJECTIVES)}; "
+                        f"got {meta.get('objectives')}",
+                    )
+                )
+
+    pareto_path = folder / "pareto.csv"
+    pareto = pd.DataFrame(columns=list(PARETO_COLUMNS))
+    if pareto_path.exists():
+        pareto = pd.read_csv(
+            pareto_path, dtype=dict.fromkeys(PARETO_TEXT_COLUMNS, str), keep_default_na=False
+        )
+        gone = [c for c in PARETO_COLUMNS if c not in pareto.columns]
+        if gone:
+            problems.append(_problem(pareto_path, "", f"missing columns: {', '.join(gone)}"))
+    elif not (isinstance(meta, dict) and meta.get("near_misses")):
+        problems.append(_problem(pareto_path, "", "file missing"))
+
+    shortlist: list[dict[str, Any]] = []
+    shortlist_path = folder / "shortlist.json"
+    if shortlist_path.exists() or not pareto.empty:
+        loaded = _read_json(shortlist_path, problems)
+        if loaded is not None:
+            designs = loaded.get("designs") if isinstance(loaded, dict) else None
+            if not isinstance(designs, list):
+                problems.append(_problem(shortlist_path, "designs", "expected a list"))
+            else:
+                for position, record in enumerate(designs):
+                    _check_record(record, shortlist_path, position, problems)
+                shortlist = designs
+
+    if problems:
+        raise InputError(problems)
+
+    study_path = folder / "study.toml"
+    study_text = study_path.read_text(encoding="utf-8") if study_path.exists() else ""
+    return RunData(
+        folder=folder,
+        meta=meta,
+        pareto=pareto,
+        shortlist=shortlist,
+        study_text=study_text,
+        started=_folder_time(folder),
+    )
+
+
+def _as_bool(values: pd.Series) -> pd.Series:
+    text = values.astype(str).str.strip().str.lower()
+    return text.isin(("true", "1", "yes"))
+
+
+def pareto_table(run: RunData) -> pd.DataFrame:
+    """Front designs with clean types, ordered by the first objective.
+
+    Text columns stay strings, the numeric columns become floats (``turns``,
+    ``stack`` and ``parallel`` integers) and ``knee`` a bool.
+    """
+    table = run.pareto.loc[:, list(PARETO_COLUMNS)].copy()
+    for name in PARETO_TEXT_COLUMNS:
+        table[name] = table[name].astype(str)
+    for name in PARETO_NUMBER_COLUMNS:
+        table[name] = pd.to_numeric(table[name], errors="raise").astype(float)
+    for name in ("turns", "stack", "parallel"):
+        table[name] = table[name].round().astype(int)
+    table["knee"] = _as_bool(table["knee"]) if len(table) else table["knee"].astype(bool)
+    first = OBJECTIVES[run.objectives[0]][0]
+    return table.sort_values([first, "design_id"], kind="stable").reset_index(drop=True)
+
+
+def non_dominated(points: np.ndarray) -> np.ndarray:
+    """Mask of the points no other point dominates, all coordinates minimised.
+
+    ``points`` has shape (n, 2). A point dominates another when it is no worse in both
+    coordinates and better in one; identical points do not dominate each other.
+    Sort-and-sweep, O(n log n).
+    """
+    values = np.asarray(points, dtype=float)
+    if values.ndim != 2 or values.shape[1] != 2:
+        raise ValueError(f"expected shape (n, 2), got {values.shape}")
+    if not np.all(np.isfinite(values)):
+        raise ValueError("objective values must be finite")
+    count = len(values)
+    mask = np.zeros(count, dtype=bool)
+    if count == 0:
+        return mask
+    order = np.lexsort((values[:, 1], values[:, 0]))
+    xs, ys = values[order, 0], values[order, 1]
+    running_min = np.minimum.accumulate(ys)
+    prev_min = np.concatenate(([np.inf], running_min[:-1]))
+    # Index of the first point that set the running minimum, to tell a true
+    # dominator (smaller x, same y) from an exact duplicate.
+    new_min = ys < prev_min
+    setter = np.maximum.accumulate(np.where(new_min, np.arange(count), 0))
+    prev_setter = np.concatenate(([0], setter[:-1]))
+    dominated = (prev_min < ys) | ((prev_min == ys) & (xs[prev_setter] < xs))
+    mask[order] = ~dominated
+    return mask
+
+
+def pair_views(run: RunData, table: pd.DataFrame | None = None) -> list[PairView]:
+    """Every pair of the run's objectives, in the run's order, with its 2-D front."""
+    front = pareto_table(run) if table is None else table
+    views = []
+    for x, y in itertools.combinations(run.objectives, 2):
+        x_column, y_column = OBJECTIVES[x][0], OBJECTIVES[y][0]
+        ids: tuple[str, ...] = ()
+        if len(front):
+            mask = non_dominated(front[[x_column, y_column]].to_numpy())
+            chosen = front.loc[mask].sort_values([x_column, y_column], kind="stable")
+            ids = tuple(chosen["design_id"])
+        views.append(
+            PairView(
+                x=x,
+                y=y,
+                x_column=x_column,
+                y_column=y_column,
+                x_title=objective_title(x, run.currency),
+                y_title=objective_title(y, run.currency),
+                front_ids=ids,
+            )
+        )
+    return views
+
+
+def shortlist_table(run: RunData) -> pd.DataFrame:
+    """One row per short-listed design, ordered by rank (the knee comes first)."""
+    columns = [
+        "rank",
+        "design_id",
+        "knee",
+        "core",
+        "family",
+        "material",
+        "material_kind",
+        "stack",
+        "turns",
+        "gap_mm",
+        "wire",
+        "wire_kind",
+        "parallel",
+        "layers",
+        "fill_factor",
+        "inductance_uH",
+        "inductance_at_peak_uH",
+        "peak_current_A",
+        "peak_flux_T",
+        "temperature_C",
+        "core_loss_W",
+        "winding_dc_loss_W",
+        "winding_ac_loss_W",
+        "total_loss_W",
+        "volume_cm3",
+        "mass_g",
+        "cost",
+        "operating_point",
+        "dcm",
+    ]
+    table = pd.DataFrame([{c: r[c] for c in columns} for r in run.shortlist], columns=columns)
+    table["knee"] = table["knee"].astype(bool)
+    table["dcm"] = table["dcm"].astype(bool)
+    return table.sort_values("rank", kind="stable").reset_index(drop=True)
+
+
+def _number(value: float, digits: int = 3) -> str:
+    return f"{value:.{digits}g}"
+
+
+def build_sheet_table(record: dict[str, Any], currency: str) -> pd.DataFrame:
+    """The build sheet's item/value table for one design (values as display strings)."""
+    winding = record["winding"]
+    box = record["box_mm"]
+    gap = float(record["gap_mm"])
+    rows = [
+        ("Core", str(record["core"])),
+        ("Core family", str(record["family"])),
+        ("Cores stacked", f"{int(record['stack'])}"),
+        ("Material", f"{record['material']} ({record['material_kind']})"),
+        ("Air gap [mm]", "none (distributed gap)" if gap == 0 else f"{gap:.3f}"),
+        ("Turns", f"{int(record['turns'])}"),
+        ("Wire", f"{record['wire']} ({record['wire_kind']})"),
+        ("Parallel strands", f"{int(record['parallel'])}"),
+        ("Layers", f"{int(record['layers'])}"),
+        ("Conductors per layer", f"{int(winding['conductors_per_layer'])}"),
+        ("Fill factor", f"{float(record['fill_factor']):.3f}"),
+        ("Winding build [mm]", f"{float(winding['build_mm']):.2f}"),
+        (
+            "Box L × W × H [mm]",
+            f"{float(box['length']):.1f} × {float(box['width']):.1f} × {float(box['height']):.1f}",
+        ),
+        (
+            "Inductance, no load / at peak [µH]",
+            f"{float(record['inductance_uH']):.1f} / {float(record['inductance_at_peak_uH']):.1f}",
+        ),
+        ("Mass [g]", f"{float(record['mass_g']):.1f}"),
+        (f"Cost [{currency}]" if currency else "Cost", f"{float(record['cost']):.2f}"),
+    ]
+    return pd.DataFrame(rows, columns=["item", "value"])
+
+
+def _geometry_slack(*lengths_mm: float) -> float:
+    """Slack for fit checks: exported lengths carry 6 significant digits."""
+    return GEOMETRY_TOLERANCE_MM + GEOMETRY_RELATIVE_TOLERANCE * max(lengths_mm)
+
+
+def winding_drawing_shapes(record: dict[str, Any]) -> pd.DataFrame:
+    """Shapes of the winding-window drawing, to scale, in millimetres.
+
+    Returns one row per shape with columns ``x0, y0, x1, y1`` (bounding box),
+    ``kind`` (``window``, ``bobbin``, ``round``, ``litz`` or ``foil``), ``layer``
+    (0 = next to the centre leg; -1 for window and bobbin) and ``turn`` (-1 likewise).
+    Round and litz conductors are circles of the conductor's outer diameter; foil is
+    a rectangle of the foil thickness spanning the winding breadth.
+
+    Raises
+    ------
+    ValueError
+        When the record's conductors do not fit its own winding space, or its layer
+        count disagrees with turns × parallel at the stated conductors per layer.
+    """
+    winding = record["winding"]
+    kind = str(winding["kind"])
+    breadth = float(winding["window_breadth_mm"])
+    width = float(winding["window_width_mm"])
+    wall = float(winding["bobbin_wall_mm"] or 0.0)
+    pitch = float(winding["conductor_outer_mm"])
+    per_layer = int(winding["conductors_per_layer"])
+    layers = int(winding["layers"])
+    turns = int(winding["turns"])
+    parallel = int(winding["parallel"])
+    conductors = turns * parallel
+    name = record.get("design_id", "design")
+    if min(breadth, width, pitch) <= 0 or per_layer < 1 or conductors < 1 or wall < 0:
+        raise ValueError(f"{name}: winding dimensions must be positive")
+    needed_layers = math.ceil(conductors / per_layer)
+    if needed_layers != layers:
+        raise ValueError(
+            f"{name}: {conductors} conductors at {per_layer} per layer need "
+            f"{needed_layers} layers, the record says {layers}"
+        )
+    if kind == "foil":
+        thickness = float(winding["foil_thickness_mm"] or 0.0)
+        if not 0 < thickness <= pitch * (1 + GEOMETRY_RELATIVE_TOLERANCE):
+            raise ValueError(f"{name}: foil thickness must be in (0, pitch]")
+    elif per_layer * pitch > breadth + _geometry_slack(breadth, pitch * per_layer):
+        raise ValueError(
+            f"{name}: {per_layer} conductors of {pitch} mm need "
+            f"{per_layer * pitch:.3f} mm, the window offers {breadth:.3f} mm"
+        )
+    if layers * pitch > width + _geometry_slack(width, layers * pitch):
+        raise ValueError(
+            f"{name}: {layers} layers of {pitch} mm do not fit the {width:.3f} mm window width"
+        )
+
+    rows: list[tuple[float, float, float, float, str, int, int]] = [
+        (-wall, -wall, width, breadth + wall, "window", -1, -1)
+    ]
+    if wall > GEOMETRY_TOLERANCE_MM:
+        rows += [
+            (-wall, -wall, 0.0, breadth + wall, "bobbin", -1, -1),
+            (0.0, -wall, width, 0.0, "bobbin", -1, -1),
+            (0.0, breadth, width, breadth + wall, "bobbin", -1, -1),
+        ]
+    index = np.arange(conductors)
+    layer = index // per_layer
+    slot = index % per_layer
+    x0 = layer * pitch
+    if kind == "foil":
+        x1 = x0 + thickness
+        y0 = np.zeros(conductors)
+        y1 = np.full(conductors, breadth)
+    else:
+        x1 = x0 + pitch
+        y0 = slot * pitch
+        y1 = y0 + pitch
+    # Rounded exports may overshoot by a hair; keep the picture inside its frame.
+    x1 = np.minimum(x1, width)
+    y1 = np.minimum(y1, breadth)
+    shape_kind = kind if kind in ("round", "litz", "foil") else "round"
+    frame = pd.DataFrame(rows, columns=["x0", "y0", "x1", "y1", "kind", "layer", "turn"])
+    drawn = pd.DataFrame(
+        {
+            "x0": x0.astype(float),
+            "y0": y0.astype(float),
+            "x1": x1.astype(float),
+            "y1": y1.astype(float),
+            "kind": shape_kind,
+            "layer": layer,
+            "turn": index // parallel,
+        }
+    )
+    return pd.concat([frame, drawn], ignore_index=True)
+
+
+def loss_breakdown(record: dict[str, Any]) -> pd.DataFrame:
+    """Loss split into core, DC winding and AC winding for each operating point.
+
+    Long format: one row per (operating point, component) with ``operating_point``,
+    ``time_share``, ``component``, ``loss_W`` and the point's ``total_loss_W``.
+
+    Raises
+    ------
+    ValueError
+        When a point's components do not add up to its stated total.
+    """
+    rows = []
+    for point in record["per_operating_point"]:
+        parts = {
+            "Core": float(point["core_loss_W"]),
+            "Winding DC": float(point["winding_dc_loss_W"]),
+            "Winding AC": float(point["winding_ac_loss_W"]),
+        }
+        total = float(point["total_loss_W"])
+        mismatch = abs(sum(parts.values()) - total)
+        if mismatch > LOSS_SUM_RELATIVE_TOLERANCE * abs(total) + LOSS_SUM_ABSOLUTE_TOLERANCE_W:
+            raise ValueError(
+                f"{record['design_id']} at {point['name']}: components add up to "
+                f"{sum(parts.values()):.6g} W but the total says {total:.6g} W"
+            )
+        for component, loss in parts.items():
+            rows.append(
+                {
+                    "operating_point": str(point["name"]),
+                    "time_share": float(point["time_share"]),
+                    "component": component,
+                    "loss_W": loss,
+                    "total_loss_W": total,
+                }
+            )
+    return pd.DataFrame(
+        rows, columns=["operating_point", "time_share", "component", "loss_W", "total_loss_W"]
+    )
+
+
+def margin_table(record: dict[str, Any]) -> pd.DataFrame:
+    """Each checked quantity against its limit.
+
+    Columns: ``quantity``, ``value``, ``limit``, ``unit``, ``sense`` (``max`` when the
+    value must stay at or below the limit, ``min`` when at or above), ``share``
+    (value / limit), ``headroom`` (distance to the limit as a fraction of it, positive
+    when inside) and ``within`` (bool).
+    """
+    margins = record["margins"]
+    rows = [
+        ("Peak flux density", margins["flux_T"], margins["flux_limit_T"], "T", "max"),
+        ("Temperature", margins["temperature_C"], margins["temperature_limit_C"], "°C", "max"),
+        ("Window fill", margins["fill_factor"], margins["fill_limit"], "", "max"),
+        (
+            "Inductance kept at peak",
+            margins["inductance_at_peak_fraction"],
+            margins["inductance_at_peak_limit"],
+            "",
+            "min",
+        ),
+    ]
+    table = pd.DataFrame(rows, columns=["quantity", "value", "limit", "unit", "sense"])
+    table["value"] = table["value"].astype(float)
+    table["limit"] = table["limit"].astype(float)
+    share = table["value"] / table["limit"]
+    upper = table["sense"] == "max"
+    table["share"] = share
+    table["headroom"] = np.where(upper, 1.0 - share, share - 1.0)
+    table["within"] = np.where(
+        upper, table["value"] <= table["limit"], table["value"] >= table["limit"]
+    )
+    return table
+
+
+def elimination_table(run: RunData) -> pd.DataFrame:
+    """Candidates removed per constraint, largest first, with their share of all."""
+    counts = run.meta["counts"]
+    total = int(counts.get("total", 0))
+    eliminated = counts.get("eliminated") or {}
+    rows = [
+        {
+            "constraint": str(name),
+            "meaning": CONSTRAINT_MEANING.get(str(name), ""),
+            "removed": int(removed),
+            "share": (int(removed) / total) if total > 0 else 0.0,
+        }
+        for name, removed in eliminated.items()
+    ]
+    table = pd.DataFrame(rows, columns=["constraint", "meaning", "removed", "share"])
+    return table.sort_values(["removed", "constraint"], ascending=[False, True]).reset_index(
+        drop=True
+    )
+
+
+def operating_points_table(run: RunData) -> pd.DataFrame:
+    """The study's operating points: name, input and output voltage, load, time share."""
+    columns = ["name", "input_V", "output_V", "load_A", "time_share"]
+    return pd.DataFrame(
+        [{c: point.get(c) for c in columns} for point in run.meta["operating_points"]],
+        columns=columns,
+    )
+
+
+_UNIT_SUFFIXES = {
+    "mm": "mm",
+    "mm2": "mm²",
+    "cm3": "cm³",
+    "C": "°C",
+    "K": "K",
+    "W": "W",
+    "V": "V",
+    "A": "A",
+    "uH": "µH",
+    "kHz": "kHz",
+    "Hz": "Hz",
+    "T": "T",
+    "g": "g",
+    "s": "s",
+    "pct": "%",
+}
+
+
+def _flatten(prefix: str, value: Any) -> list[tuple[str, Any]]:
+    if isinstance(value, dict):
+        out: list[tuple[str, Any]] = []
+        for key, inner in value.items():
+            out += _flatten(f"{prefix}.{key}" if prefix else str(key), inner)
+        return out
+    return [(prefix, value)]
+
+
+def limits_table(run: RunData) -> pd.DataFrame:
+    """The study's limits as ``limit``/``unit``/``value`` rows, nested keys dotted."""
+    rows = []
+    for key, value in _flatten("", run.meta.get("limits") or {}):
+        stem, _, suffix = key.rpartition("_")
+        unit = _UNIT_SUFFIXES.get(suffix, "") if stem else ""
+        label = (stem if unit else key).replace("_", " ").replace(".", " · ")
+        if value is None:
+            shown: Any = "not set"
+        elif isinstance(value, list):
+            shown = ", ".join(map(str, value))
+        else:
+            shown = value
+        rows.append({"limit": label, "unit": unit, "value": shown})
+    return pd.DataFrame(rows, columns=["limit", "unit", "value"])
+
+
+def near_miss_table(run: RunData) -> pd.DataFrame:
+    """Designs that came closest when nothing met every limit."""
+    columns = [
+        "design_id",
+        "core",
+        "material",
+        "turns",
+        "wire",
+        "worst_constraint",
+        "worst_violation",
+    ]
+    return pd.DataFrame(
+        [{c: miss.get(c) for c in columns} for miss in run.near_misses], columns=columns
+    )
+
+
+def header_facts(run: RunData) -> list[tuple[str, str]]:
+    """Label/value pairs for the page header (strings, not yet escaped)."""
+    meta = run.meta
+    started = run.started.strftime("%Y-%m-%d %H:%M") if run.started else "unknown"
+    facts = [
+        ("Run", started),
+        ("Tool version", str(meta.get("version", ""))),
+        ("Catalogue", str(meta.get("catalog_hash", ""))[:12]),
+        ("Search", str(meta.get("strategy", ""))),
+        ("Objectives", " · ".join(run.objectives)),
+    ]
+    if meta.get("wall_time_s") is not None:
+        facts.append(("Wall time", f"{float(meta['wall_time_s']):.1f} s"))
+    if meta.get("candidates_per_s") is not None:
+        facts.append(("Throughput", f"{float(meta['candidates_per_s']):,.0f} designs/s"))
+    return facts

@@ -1,0 +1,490 @@
+"""Assemble the run report: one self-contained, offline HTML page per run folder.
+
+plotly.js is embedded once, inline, by the first figure; every later figure only
+carries its data. Nothing is fetched from the network: no CDN, no web fonts.
+Every user string is escaped with `html.escape` before it reaches the page, and the
+JSON summary embedded in a ``<script>`` block has ``<``, ``>`` and ``&`` escaped so
+that no string can close the block.
+"""
+
+from __future__ import annotations
+
+import html
+import json
+from collections.abc import Iterable, Sequence
+from pathlib import Path
+from typing import Any
+
+import plotly.graph_objects as go
+
+from optimag.report import data, figures, style
+
+REPORT_NAME = "report.html"
+
+CAUTIONS = (
+    "Switching converters can carry hazardous voltages, mains voltage included, and keep "
+    "them on capacitors after the supply is removed. Work on them only when you are "
+    "trained to, with the power off and the energy discharged.",
+    "Inductors and their cores run hot in service and can burn skin; at fault currents "
+    "the winding insulation can char or ignite.",
+    "Insulation, creepage and clearance distances are set by the safety standard that "
+    "applies to the end product, not by this search; check the bobbin, tape and wire "
+    "ratings against it.",
+    "Every figure here is an estimate from models with known limits. Build a prototype "
+    "and measure inductance, temperature rise and losses before you rely on a design.",
+    "Local codes and licensed professional practice take precedence over anything in this report.",
+)
+
+
+def escape(value: Any) -> str:
+    """HTML-escape any value for text or attribute context."""
+    return html.escape(str(value), quote=True)
+
+
+def json_for_script(value: Any) -> str:
+    """JSON text safe inside a ``<script>`` element.
+
+    ``<``, ``>`` and ``&`` become ``\\u003c``, ``\\u003e`` and ``\\u0026`` (still valid
+    JSON, decoding to the same strings), so ``</script>`` or ``<!--`` in a string
+    cannot end or alter the block; U+2028/U+2029 are escaped for old JS parsers.
+    """
+    text = json.dumps(value, ensure_ascii=False, allow_nan=False)
+    for raw, safe in (
+        ("<", "\\u003c"),
+        (">", "\\u003e"),
+        ("&", "\\u0026"),
+        ("\u2028", "\\u2028"),
+        ("\u2029", "\\u2029"),
+    ):
+        text = text.replace(raw, safe)
+    return text
+
+
+class _FigureSlots:
+    """Turns figures into page fragments; the first one carries plotly.js."""
+
+    def __init__(self) -> None:
+        self.count = 0
+
+    def render(self, fig: go.Figure, role: str) -> str:
+        include_library = self.count == 0
+        self.count += 1
+        fragment = fig.to_html(
+            full_html=False,
+            include_plotlyjs=include_library,
+            config=style.PLOTLY_CONFIG,
+            div_id=f"figure-{self.count:03d}",
+            default_width="100%",
+            default_height=f"{int(fig.layout.height or 400)}px",
+        )
+        return f'<div class="fig" data-role="{escape(role)}">{fragment}</div>'
+
+
+def _table(
+    headers: Sequence[str],
+    rows: Iterable[Sequence[Any]],
+    numeric: Sequence[bool] | None = None,
+    css: str = "data",
+) -> str:
+    """An HTML table; every header and cell is escaped here, values arrive raw."""
+    numeric = numeric or [False] * len(headers)
+    head = "".join(f"<th>{escape(h)}</th>" for h in headers)
+    body = []
+    for row in rows:
+        cells = "".join(
+            f'<td class="num">{escape(v)}</td>' if is_num else f"<td>{escape(v)}</td>"
+            for v, is_num in zip(row, numeric, strict=True)
+        )
+        body.append(f"<tr>{cells}</tr>")
+    return (
+        f'<div class="scroll"><table class="{css}"><thead><tr>{head}</tr></thead>'
+        f"<tbody>{''.join(body)}</tbody></table></div>"
+    )
+
+
+def _card(title: str, inner: str, note: str = "", spaced: bool = False) -> str:
+    """A panel with an escaped heading; ``inner`` is trusted page markup."""
+    style_attr = ' style="margin-top:14px"' if spaced else ""
+    note_html = f'<p class="note">{escape(note)}</p>' if note else ""
+    return f'<div class="card"{style_attr}><h3>{escape(title)}</h3>{inner}{note_html}</div>'
+
+
+def _section(number: int, anchor: str, title: str, lede: str, body: str) -> str:
+    return (
+        f'<section class="part" id="{anchor}"><h2><span class="num">{number:02d}</span>'
+        f'{escape(title)}</h2><p class="lede">{escape(lede)}</p>{body}</section>'
+    )
+
+
+def _masthead(run: data.RunData) -> str:
+    title = run.meta.get("study_title") or run.meta.get("study_name", "")
+    facts = "".join(
+        f"<div><dt>{escape(label)}</dt><dd>{escape(value)}</dd></div>"
+        for label, value in data.header_facts(run)
+    )
+    return (
+        '<header class="masthead"><div class="wrap">'
+        f'<div class="kicker">optimag · inductor search record · {escape(run.meta["study_name"])}'
+        "</div>"
+        f"<h1>{escape(title)}</h1>"
+        f'<dl class="facts">{facts}</dl>'
+        "</div></header>"
+    )
+
+
+def _tally(run: data.RunData) -> str:
+    counts = run.meta["counts"]
+    items = [
+        (counts.get("total", 0), "candidates evaluated"),
+        (counts.get("feasible", 0), "met every limit"),
+        (counts.get("pareto", 0), "on the trade-off front"),
+        (len(run.shortlist), "short-listed"),
+    ]
+    cells = "".join(
+        f'<div class="count"><b>{int(n):,}</b><span>{escape(label)}</span></div>'
+        for n, label in items
+    )
+    nav = "".join(
+        f'<a href="#{anchor}">{escape(label)}</a>'
+        for anchor, label in (
+            ("tradeoff", "Trade-off map"),
+            ("shortlist", "Short-list"),
+            ("build", "Build sheets"),
+            ("ruled-out", "Ruled out"),
+            ("asked", "What was asked"),
+            ("before-you-build", "Before you build"),
+        )
+    )
+    warning = ""
+    if run.meta.get("interrupted"):
+        warning = (
+            '<div class="alert"><b>This search was stopped early.</b> Everything below covers '
+            "only the candidates evaluated before the stop.</div>"
+        )
+    return f'{warning}<div class="tally">{cells}</div><nav class="toc">{nav}</nav>'
+
+
+def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
+    if front.empty:
+        misses = data.near_miss_table(run)
+        body = (
+            '<div class="alert"><b>No design met every limit.</b> The candidates that came '
+            "closest are listed with the limit they broke worst; relax that limit or widen "
+            "the catalogue.</div>"
+        )
+        if not misses.empty:
+            body += _table(
+                ["Design", "Core", "Material", "Turns", "Wire", "Worst limit", "Beyond it by"],
+                (
+                    [
+                        r.design_id,
+                        r.core,
+                        r.material,
+                        r.turns,
+                        r.wire,
+                        r.worst_constraint,
+                        f"{float(r.worst_violation):+.1%}",
+                    ]
+                    for r in misses.itertuples(index=False)
+                ),
+                [False, False, False, True, False, False, True],
+            )
+        return _section(
+            1, "tradeoff", "Trade-off map", "Nothing reached the front in this run.", body
+        )
+    cards = [
+        _card(
+            f"{view.y_title} against {view.x_title}",
+            slots.render(figures.tradeoff_pair_figure(front, view, run.currency), "pair"),
+            f"{len(view.front_ids)} of {len(front)} front designs stay unbeaten in this pair "
+            "of objectives (dotted staircase).",
+        )
+        for view in data.pair_views(run, front)
+    ]
+    if len(run.objectives) >= 3:
+        names = ", ".join(run.objectives[:3])
+        cards.append(
+            _card(
+                f"The whole front in three objectives ({names})",
+                slots.render(
+                    figures.tradeoff_3d_figure(front, run.objectives, run.currency), "front-3d"
+                ),
+                "Drag to turn the view; hover a point for its figures.",
+            )
+        )
+    body = f'<div class="grid">{"".join(cards)}</div>'
+    lede = (
+        f"Each point is a design no other design beats on every objective at once "
+        f"({', '.join(run.objectives)}). Colour shows the core material, marker shape the "
+        "core family; the ringed point is the knee, the most balanced compromise."
+    )
+    return _section(1, "tradeoff", "Trade-off map", lede, body)
+
+
+def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
+    if not run.shortlist:
+        return _section(2, "shortlist", "Short-list side by side", "No designs short-listed.", "")
+    table = data.shortlist_table(run)
+    figure = slots.render(figures.shortlist_parallel_figure(table, run.currency), "parallel")
+    rows = (
+        [
+            r.rank,
+            f"{r.design_id}{' (knee)' if r.knee else ''}",
+            r.core,
+            r.material,
+            r.turns,
+            f"{r.gap_mm:.2f}",
+            f"{r.wire} ×{r.parallel}",
+            f"{r.total_loss_W:.2f}",
+            f"{r.temperature_C:.0f}",
+            f"{r.volume_cm3:.2f}",
+            f"{r.cost:.2f}",
+        ]
+        for r in table.itertuples(index=False)
+    )
+    cost_header = f"Cost [{run.currency}]" if run.currency else "Cost"
+    listing = _table(
+        [
+            "#",
+            "Design",
+            "Core",
+            "Material",
+            "Turns",
+            "Gap [mm]",
+            "Wire",
+            "Loss [W]",
+            "Temp. [°C]",
+            "Volume [cm³]",
+            cost_header,
+        ],
+        rows,
+        [True, False, False, False, True, True, False, True, True, True, True],
+    )
+    body = _card("Parallel axes", figure) + _card("Ranked list", listing, spaced=True)
+    lede = (
+        "The short-listed designs on shared axes: follow a line to see what each design "
+        "trades. The knee design is drawn in ochre; drag along an axis to filter."
+    )
+    return _section(2, "shortlist", "Short-list side by side", lede, body)
+
+
+def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> str:
+    sheet_rows = data.build_sheet_table(record, currency)
+    table = _table(["Item", "Value"], sheet_rows.itertuples(index=False, name=None), css="data kv")
+    parts = _card("Parts and winding", table)
+    panels: list[str] = []
+    try:
+        shapes = data.winding_drawing_shapes(record)
+        drawing = slots.render(figures.winding_figure(shapes, record), "winding")
+        panels.append(
+            _card(
+                "Winding window, to scale",
+                drawing,
+                f"Window laid on its side: grey core, sand bobbin, copper "
+                f"{record['winding']['kind']} conductors; layer 1 lies at the bottom, "
+                f"against the {'centre leg' if record['family'] in ('E', 'pot') else 'core'}.",
+            )
+        )
+    except ValueError as err:
+        panels.append(
+            _card("Winding window", f'<p class="alert">Drawing unavailable: {escape(err)}</p>')
+        )
+    try:
+        losses = slots.render(figures.loss_figure(data.loss_breakdown(record)), "loss")
+        panels.append(_card("Where the watts go", losses))
+    except ValueError as err:
+        panels.append(
+            _card("Where the watts go", f'<p class="alert">Unavailable: {escape(err)}</p>')
+        )
+    panels.append(
+        _card(
+            "Inductance under load",
+            slots.render(figures.inductance_figure(record), "inductance"),
+            "Dashed: peak current; dotted: lowest inductance the limits allow at that current.",
+        )
+    )
+    margins = data.margin_table(record)
+    panels.append(
+        _card(
+            "Headroom to each limit",
+            slots.render(figures.margin_figure(margins), "margins"),
+            "Bars as a share of their limit; the dashed line is the limit itself. "
+            "Inductance kept at peak must reach past it, the others stay short of it.",
+        )
+    )
+    # The parts table is the tallest panel: the drawing and the headroom bars share
+    # the column beside it, the two curves go underneath.
+    drawing, losses_panel, inductance_panel, headroom = panels
+    layout = (
+        f'<div class="grid">{parts}<div class="stack">{drawing}{headroom}</div>'
+        f"{losses_panel}{inductance_panel}</div>"
+    )
+
+    knee = bool(record.get("knee"))
+    badges = f'<span class="badge">rank {int(record["rank"])}</span>'
+    if knee:
+        badges += '<span class="badge knee">knee</span>'
+    if bool(record.get("dcm")):
+        badges += '<span class="badge">enters DCM</span>'
+    if not margins["within"].all():
+        badges += '<span class="badge warn">limit exceeded</span>'
+    summary = (
+        f"{float(record['inductance_uH']):.1f} µH · {float(record['total_loss_W']):.2f} W · "
+        f"{float(record['temperature_C']):.0f} °C at {record['operating_point']}"
+    )
+    return (
+        f'<article class="sheet{" knee" if knee else ""}" '
+        f'id="design-{escape(record["design_id"])}">'
+        f"<header><h3>{escape(record['design_id'])} — {escape(record['core'])}, "
+        f"{escape(record['material'])}</h3>{badges}"
+        f'<span class="note">{escape(summary)}</span></header>'
+        f"{layout}</article>"
+    )
+
+
+def _build_sheets(run: data.RunData, slots: _FigureSlots) -> str:
+    records = sorted(run.shortlist, key=lambda r: int(r["rank"]))
+    body = "".join(_build_sheet(r, run.currency, slots) for r in records)
+    lede = (
+        "Everything needed to wind each short-listed design: parts, the window to scale, "
+        "where the loss arises at each operating point, how inductance falls with current, "
+        "and how close each limit is."
+    )
+    return _section(3, "build", "Build sheets", lede, body or "<p>No designs short-listed.</p>")
+
+
+def _ruled_out(run: data.RunData) -> str:
+    table = data.elimination_table(run)
+    rows = []
+    for r in table.itertuples(index=False):
+        bar = f'<span class="bar" style="width:{100 * r.share:.1f}%"></span>'
+        rows.append(
+            "<tr>"
+            f"<td><code>{escape(r.constraint)}</code></td><td>{escape(r.meaning)}</td>"
+            f'<td class="num">{r.removed:,}</td>'
+            f'<td class="num share">{100 * r.share:.1f} %{bar}</td>'
+            "</tr>"
+        )
+    body = (
+        '<div class="card"><div class="scroll"><table class="data"><thead><tr>'
+        "<th>Limit</th><th>Meaning</th><th>Removed</th><th>Share of all</th>"
+        f"</tr></thead><tbody>{''.join(rows)}</tbody></table></div></div>"
+    )
+    if table.empty:
+        body = "<p>The run recorded no eliminations.</p>"
+    lede = "How many candidates each limit removed, as a share of all candidates evaluated."
+    return _section(4, "ruled-out", "What was ruled out", lede, body)
+
+
+def _asked(run: data.RunData) -> str:
+    points = data.operating_points_table(run)
+    point_table = _table(
+        ["Operating point", "Input [V]", "Output [V]", "Load [A]", "Time share"],
+        (
+            [r.name, r.input_V, r.output_V, r.load_A, f"{100 * float(r.time_share):.0f} %"]
+            for r in points.itertuples(index=False)
+        ),
+        [False, True, True, True, True],
+    )
+    limits = data.limits_table(run)
+    limit_table = _table(
+        ["Limit", "Unit", "Value"], limits.itertuples(index=False, name=None), [False, False, True]
+    )
+    target = run.meta.get("required_inductance_uH")
+    if target is not None:
+        limit_table = (
+            f'<p class="note">Inductance the converter needs: {float(target):.4g} µH.</p>'
+            + limit_table
+        )
+    model = run.meta.get("model") or {}
+    model_table = _table(["Model", "Choice"], ([k.replace("_", " "), v] for k, v in model.items()))
+    study = ""
+    if run.study_text:
+        study = (
+            '<details class="study"><summary>Study file as run</summary>'
+            f"<pre>{escape(run.study_text)}</pre></details>"
+        )
+    catalogue = run.meta.get("catalog_folder", "")
+    body = (
+        '<div class="grid">'
+        f'<div class="card"><h3>Operating points</h3>{point_table}</div>'
+        f'<div class="card"><h3>Limits</h3>{limit_table}</div>'
+        f'<div class="card"><h3>Models</h3>{model_table}'
+        f'<p class="note">Catalogue {escape(catalogue)} · hash '
+        f"{escape(run.meta.get('catalog_hash', ''))}</p></div>"
+        f"</div>{study}"
+    )
+    return _section(5, "asked", "What was asked", "The inputs this run answered.", body)
+
+
+def _cautions() -> str:
+    items = "".join(f"<li>{escape(text)}</li>" for text in CAUTIONS)
+    return _section(
+        6,
+        "before-you-build",
+        "Before you build",
+        "Read this before turning any design here into hardware.",
+        f'<div class="caution"><ul>{items}</ul></div>',
+    )
+
+
+def _summary_json(run: data.RunData, front: Any) -> dict[str, Any]:
+    return {
+        "tool": run.meta.get("tool", "optimag"),
+        "version": run.meta.get("version"),
+        "study_name": run.meta.get("study_name"),
+        "study_title": run.meta.get("study_title"),
+        "objectives": run.objectives,
+        "counts": run.meta.get("counts"),
+        "front": list(front["design_id"]) if len(front) else [],
+        "shortlist": [r["design_id"] for r in sorted(run.shortlist, key=lambda r: int(r["rank"]))],
+    }
+
+
+_EXTRA_CSS = """
+td.share { position: relative; min-width: 120px; }
+td.share .bar { position: absolute; left: 0; bottom: 2px; height: 3px;
+  background: var(--ochre); border-radius: 2px; }
+code { font-family: inherit; color: var(--teal); }
+.stack { display: flex; flex-direction: column; gap: 14px; min-width: 0; }
+"""
+
+
+def render_report(run: data.RunData) -> str:
+    """The whole page as a string."""
+    front = data.pareto_table(run)
+    slots = _FigureSlots()
+    title = run.meta.get("study_title") or run.meta.get("study_name", "")
+    parts = [
+        _masthead(run),
+        '<main class="wrap">',
+        _tally(run),
+        _tradeoff(run, front, slots),
+        _shortlist(run, slots),
+        _build_sheets(run, slots),
+        _ruled_out(run),
+        _asked(run),
+        _cautions(),
+        '<footer class="colophon">Written by optimag '
+        f"{escape(run.meta.get('version', ''))} from run folder "
+        f"{escape(run.folder.name)}. Figures are model estimates.</footer>",
+        "</main>",
+        '<script type="application/json" id="optimag-run-summary">'
+        f"{json_for_script(_summary_json(run, front))}</script>",
+    ]
+    return (
+        '<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">'
+        '<meta name="viewport" content="width=device-width, initial-scale=1">'
+        f"<title>{escape(title)} · optimag run report</title>"
+        f"<style>{style.PAGE_CSS}{_EXTRA_CSS}</style></head><body>"
+        + "".join(parts)
+        + "</body></html>"
+    )
+
+
+def build_report(run_dir: Path) -> Path:
+    """Write ``report.html`` into the run folder and return its path."""
+    run = data.load_run(run_dir)
+    target = Path(run_dir) / REPORT_NAME
+    target.write_text(render_report(run), encoding="utf-8")
+    return target
