@@ -54,7 +54,7 @@ def test_readme_demo_command_writes_the_run_folder(tmp_path):
     assert done.returncode == 0, done.stderr
     assert "Traceback" not in done.stderr
     for name in ("study.toml", "run.json", "pareto.csv", "shortlist.csv", "shortlist.xlsx",
-                 "shortlist.json"):
+                 "shortlist.json", "report.html"):
         assert (out / name).is_file(), name
     record = json.loads((out / "run.json").read_text())
     assert record["counts"]["total"] == record["counts"]["feasible"] + sum(
@@ -68,6 +68,11 @@ def test_readme_demo_command_writes_the_run_folder(tmp_path):
         assert len(design["per_operating_point"]) == 3
         assert design["temperature_C"] <= 110.0
         assert design["fill_factor"] <= 0.45
+    report = (out / "report.html").read_text(encoding="utf-8")
+    assert (out / "report.html").stat().st_size < 10e6
+    assert "<script src=\"http" not in report and designs[0]["design_id"] in report
+    rebuilt = optimag("report", str(out))
+    assert rebuilt.returncode == 0, rebuilt.stderr
     pareto = pd.read_csv(out / "pareto.csv")
     assert {"volume_cm3", "total_loss_W", "cost", "mass_g"} <= set(pareto.columns)
     assert len(pd.read_excel(out / "shortlist.xlsx")) == len(designs)
