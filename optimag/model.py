@@ -449,10 +449,21 @@ def magnetic_stage(
             can_gap & ~unreachable, np.minimum(inductance_violation, -1.0), inductance_violation
         )
 
-    # Currents at the required inductance (operating points, shape (1, K)).
-    dc = op.dc_A[None, :]
-    peak = op.peak_A[None, :]
-    valley = op.valley_A[None, :]
+    # The converter's waveforms were derived at the required inductance; in continuous
+    # conduction the ripple scales with 1/L, so each design's own inductance at the DC
+    # current (a powder core's is rolled off by the bias) sets its ripple. Discontinuous
+    # points keep the waveform derived at the required inductance.
+    dc = np.broadcast_to(op.dc_A[None, :], (len(n_turns), len(op.dc_A)))
+    powder_ldc = magnetic.powder_inductance(
+        n_turns[:, None], dc, le[:, None], ae[:, None], mu_i[:, None],
+        m.rolloff_a[material][:, None], m.rolloff_b[material][:, None],
+        m.rolloff_c[material][:, None],
+    )
+    inductance_dc = np.where(powder[:, None], powder_ldc, inductance0[:, None])
+    ripple_scale = np.where(op.dcm[None, :], 1.0, req.inductance_H / inductance_dc)
+    ripple = op.ripple_A[None, :] * ripple_scale
+    peak = np.where(op.dcm[None, :], op.peak_A[None, :], dc + ripple / 2)
+    valley = np.where(op.dcm[None, :], 0.0, np.maximum(dc - ripple / 2, 0.0))
 
     # Flux: linear (ferrite) core B = L i / (N A); powder from its roll-off law.
     h_peak = n_turns[:, None] * peak / le[:, None]
@@ -481,7 +492,7 @@ def magnetic_stage(
 
     # Inductance left at the highest peak current (powder roll-off; ferrite stays linear
     # below saturation, which the saturation constraint guards).
-    worst_peak = float(op.peak_A.max())
+    worst_peak = peak.max(axis=1)
     powder_lpk = magnetic.powder_inductance(
         n_turns, worst_peak, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
         m.rolloff_c[material],
@@ -505,7 +516,10 @@ def magnetic_stage(
         "worst_flux_T": worst_flux,
         "flux_limit_T": flux_limit,
         "core_loss_reference_W": core_loss_reference,
-        "dc_current_A": np.broadcast_to(dc, b_peak.shape),
+        "dc_current_A": dc,
+        "peak_current_A": peak,
+        "ripple_A": ripple,
+        "ripple_scale": ripple_scale,
         "violation_inductance": inductance_violation,
         "violation_saturation": saturation_violation,
         "violation_inductance_at_peak": peak_violation,
@@ -711,8 +725,10 @@ def loss_quadratic(space: DesignSpace, material: np.ndarray, mag: dict, wdg: dic
     m = space.materials
     t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
     core_ref = mag["core_loss_reference_W"]
-    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"]
-    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"]
+    # Harmonic amplitudes, and so AC winding loss, scale with the design's ripple.
+    ac_scale = mag["ripple_scale"] ** 2
+    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"] * ac_scale
+    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"] * ac_scale
     slope = (wind_hi - wind_lo) / (t_hi - t_lo)
     a0 = core_ref * m.ct0[material][:, None] + wind_lo - slope * t_lo
     a1 = -core_ref * m.ct1[material][:, None] + slope
@@ -778,7 +794,9 @@ def combine_stage(
     fraction = (safe_t - t_lo) / (t_hi - t_lo)
     core_loss = core_ref * ct
     dc_loss = wdg["winding_dc_lo_W"] + fraction * (wdg["winding_dc_hi_W"] - wdg["winding_dc_lo_W"])
-    ac_loss = wdg["winding_ac_lo_W"] + fraction * (wdg["winding_ac_hi_W"] - wdg["winding_ac_lo_W"])
+    ac_loss = (
+        wdg["winding_ac_lo_W"] + fraction * (wdg["winding_ac_hi_W"] - wdg["winding_ac_lo_W"])
+    ) * mag["ripple_scale"] ** 2
     point_loss = core_loss + dc_loss + ac_loss
     weighted_loss = point_loss @ op.share
     worst_t = temperature.max(axis=1)

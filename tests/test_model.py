@@ -1,5 +1,7 @@
 """Model-level checks: the exact thermal screen, stage consistency, and the energy identity."""
 
+import dataclasses
+
 import numpy as np
 import pytest
 
@@ -31,10 +33,15 @@ def _random_candidates(space, n, seed=0):
 def test_thermal_screen_never_removes_a_cool_enough_part(tiny_space):
     """The screen compares the smallest loss with the heat shed at the limit; a part it
     flags must come out over the limit (or in runaway) from the full fixed point."""
-    cands = _random_candidates(tiny_space, 4000)
-    metrics = model.evaluate(tiny_space, cands)
+    # A tight limit (55 degC in 40 degC ambient) so that both outcomes occur.
+    space = dataclasses.replace(
+        tiny_space,
+        requirements=dataclasses.replace(tiny_space.requirements, max_temperature_C=55.0),
+    )
+    cands = _random_candidates(space, 4000)
+    metrics = model.evaluate(space, cands)
     flagged = model.certainly_too_hot(
-        tiny_space, cands.material, cands.stack, cands.core, metrics, metrics
+        space, cands.material, cands.stack, cands.core, metrics, metrics
     )
     assert flagged.any() and (~flagged).any()
     assert np.all(metrics["violation_temperature"][flagged] > 0)
@@ -72,3 +79,27 @@ def test_flat_evaluation_is_row_independent(tiny_space):
         alone = model.evaluate(tiny_space, cands.take(slice(i, i + 1)))
         for key in ("total_loss_W", "volume_cm3", "cost", "mass_g", "worst_violation"):
             assert alone[key][0] == pytest.approx(batch[key][i], rel=1e-9, abs=1e-12)
+
+
+def test_ripple_follows_each_designs_own_inductance(tiny_space):
+    """CCM buck ripple dI = (Vi - Vo) D / (L f), D = Vo/Vi (Erickson & Maksimović ch. 2),
+    with L the design's incremental inductance at its DC current (powder roll-off)."""
+    from optimag.physics import magnetic
+
+    cands = _random_candidates(tiny_space, 3000, seed=4)
+    metrics = model.evaluate(tiny_space, cands)
+    m, c, op = tiny_space.materials, tiny_space.cores, tiny_space.operating
+    powder = np.flatnonzero(m.kind[cands.material] == 1)
+    assert powder.size
+    points = [(24.0, 5.0), (12.0, 5.0)]  # the tiny study's (input_V, output_V)
+    for k, (vi, vo) in enumerate(points):
+        assert not op.dcm[k]
+        i = powder
+        l_dc = magnetic.powder_inductance(
+            cands.turns[i], op.dc_A[k], c.le_m[cands.core[i]],
+            c.ae_m2[cands.core[i]] * cands.stack[i], m.mu_i[cands.material[i]],
+            m.rolloff_a[cands.material[i]], m.rolloff_b[cands.material[i]],
+            m.rolloff_c[cands.material[i]],
+        )
+        expected = (vi - vo) * (vo / vi) / (l_dc * op.frequency_Hz)
+        np.testing.assert_allclose(metrics["ripple_A"][i, k], expected, rtol=1e-9)

@@ -142,7 +142,7 @@ def design_records(
         runaway = metrics["runaway"][i]
         hot = int(np.argmax(np.where(runaway, np.inf, temps)))
         l0 = metrics["inductance_H"][i]
-        peak_current = op.peak_A
+        peak_current = metrics["peak_current_A"][i]
         per_point = []
         for k, name in enumerate(op.names):
             per_point.append(
@@ -223,7 +223,7 @@ def design_records(
                 "dc_resistance_mOhm": _r(rdc_hot * 1e3),
                 "frequency_kHz": _r(op.frequency_Hz / 1e3),
                 "dc_current_A": _r(op.dc_A[hot]),
-                "ripple_A": _r(op.ripple_A[hot]),
+                "ripple_A": _r(metrics["ripple_A"][i, hot]),
                 "duty": _r(op.rise[hot]),
                 "steinmetz_k": _r(m.k[mat]),
                 "steinmetz_alpha": _r(m.alpha[mat]),
