@@ -27,6 +27,7 @@ import numpy as np
 import pandas as pd
 
 from optimag.errors import InputError, Problem
+from optimag.report import export
 
 #: Objective name -> (pareto.csv column, axis title, unit; None means the run's currency).
 OBJECTIVES: dict[str, tuple[str, str, str | None]] = {
@@ -36,73 +37,12 @@ OBJECTIVES: dict[str, tuple[str, str, str | None]] = {
     "mass": ("mass_g", "Mass", "g"),
 }
 
-PARETO_TEXT_COLUMNS = (
-    "design_id",
-    "core",
-    "family",
-    "material",
-    "material_kind",
-    "wire",
-    "wire_kind",
+PARETO_TEXT_COLUMNS = export.PARETO_TEXT_COLUMNS
+PARETO_NUMBER_COLUMNS = tuple(
+    c for c in export.PARETO_COLUMNS if c not in PARETO_TEXT_COLUMNS and c != "knee"
 )
-PARETO_NUMBER_COLUMNS = (
-    "stack",
-    "turns",
-    "gap_mm",
-    "parallel",
-    "volume_cm3",
-    "total_loss_W",
-    "cost",
-    "mass_g",
-    "temperature_C",
-    "peak_flux_T",
-    "fill_factor",
-    "core_loss_W",
-    "winding_dc_loss_W",
-    "winding_ac_loss_W",
-    "inductance_uH",
-    "inductance_at_peak_uH",
-)
-PARETO_COLUMNS = (*PARETO_TEXT_COLUMNS, *PARETO_NUMBER_COLUMNS, "knee")
-
-RECORD_FIELDS = (
-    "design_id",
-    "rank",
-    "knee",
-    "core",
-    "family",
-    "material",
-    "material_kind",
-    "stack",
-    "turns",
-    "gap_mm",
-    "wire",
-    "wire_kind",
-    "parallel",
-    "layers",
-    "fill_factor",
-    "inductance_uH",
-    "inductance_at_peak_uH",
-    "peak_current_A",
-    "peak_flux_T",
-    "flux_swing_T",
-    "core_loss_W",
-    "winding_dc_loss_W",
-    "winding_ac_loss_W",
-    "total_loss_W",
-    "temperature_C",
-    "volume_cm3",
-    "mass_g",
-    "cost",
-    "operating_point",
-    "dcm",
-    "per_operating_point",
-    "inputs",
-    "margins",
-    "inductance_curve",
-    "winding",
-    "box_mm",
-)
+PARETO_COLUMNS = tuple(export.PARETO_COLUMNS)
+RECORD_FIELDS = export.SHORTLIST_RECORD_FIELDS
 MARGIN_FIELDS = (
     "flux_T",
     "flux_limit_T",

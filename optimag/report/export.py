@@ -45,6 +45,21 @@ PARETO_COLUMNS = [
     "knee",
 ]
 
+#: Text columns of pareto.csv (read back as strings).
+PARETO_TEXT_COLUMNS = (
+    "design_id", "core", "family", "material", "material_kind", "wire", "wire_kind",
+)
+
+#: Fields every short-list record carries (shortlist.json).
+SHORTLIST_RECORD_FIELDS = (
+    "design_id", "rank", "knee", "core", "family", "material", "material_kind", "stack",
+    "turns", "gap_mm", "wire", "wire_kind", "parallel", "layers", "fill_factor",
+    "inductance_uH", "inductance_at_peak_uH", "peak_current_A", "peak_flux_T",
+    "flux_swing_T", "core_loss_W", "winding_dc_loss_W", "winding_ac_loss_W", "total_loss_W",
+    "temperature_C", "volume_cm3", "mass_g", "cost", "operating_point", "dcm",
+    "per_operating_point", "inputs", "margins", "inductance_curve", "winding", "box_mm",
+)
+
 _FAMILY_NAMES = {v: k for k, v in model.FAMILY_CODES.items()}
 _MATERIAL_NAMES = {v: k for k, v in model.MATERIAL_KIND_CODES.items()}
 _WIRE_NAMES = {v: k for k, v in model.WIRE_KIND_CODES.items()}

@@ -21,6 +21,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from optimag.report import export
+
 #: Would mark the page if it ever ran; the browser test looks for the attribute.
 PWN_IMG = "<img src=x onerror=\"document.body.setAttribute('data-pwned','img')\">"
 PWN_SVG = "<svg onload=\"document.body.setAttribute('data-pwned','svg')\"></svg>"
@@ -270,32 +272,7 @@ FLAT_FIELDS = [
     "operating_point",
     "dcm",
 ]
-PARETO_FIELDS = [
-    "design_id",
-    "core",
-    "family",
-    "material",
-    "material_kind",
-    "stack",
-    "turns",
-    "gap_mm",
-    "wire",
-    "wire_kind",
-    "parallel",
-    "volume_cm3",
-    "total_loss_W",
-    "cost",
-    "mass_g",
-    "temperature_C",
-    "peak_flux_T",
-    "fill_factor",
-    "core_loss_W",
-    "winding_dc_loss_W",
-    "winding_ac_loss_W",
-    "inductance_uH",
-    "inductance_at_peak_uH",
-    "knee",
-]
+PARETO_FIELDS = list(export.PARETO_COLUMNS)
 
 
 def make_run_folder(
