@@ -167,10 +167,11 @@ def build_parser() -> argparse.ArgumentParser:
     explore = commands.add_parser("explore", help="search the design space of a study")
     explore.add_argument("study", help="the study .toml file")
     explore.add_argument("--out", help="run folder (default runs/<study>-<timestamp>)")
-    explore.add_argument("--top", type=int, default=20, help="short-list length (default 20)")
+    explore.add_argument("--top", type=_positive_int, default=20,
+                         help="short-list length (default 20)")
     explore.add_argument("--strategy", choices=["exhaustive", "optuna"],
                          help="override the study's search strategy")
-    explore.add_argument("--trials", type=int, help="optuna: number of trials")
+    explore.add_argument("--trials", type=_positive_int, help="optuna: number of trials")
     explore.add_argument("--seed", type=int, help="optuna: sampler seed")
     explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")
     report = commands.add_parser("report", help="rebuild report.html of a run folder")
@@ -178,9 +179,30 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"{value} must be at least 1")
+    return value
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    try:
+        return _dispatch(parser, args)
+    except InputError as error:
+        _print_problems(error.problems)
+        return 2
+    except OSError as error:
+        print(f"optimag: {error.strerror or error}: {error.filename or ''}", file=sys.stderr)
+        return 2
+
+
+def _dispatch(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
     if args.command == "check":
         return _check(args.path)
     if args.command == "explore":
