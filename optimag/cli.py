@@ -174,6 +174,15 @@ def build_parser() -> argparse.ArgumentParser:
     explore.add_argument("--trials", type=_positive_int, help="optuna: number of trials")
     explore.add_argument("--seed", type=int, help="optuna: sampler seed")
     explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")
+    worker = commands.add_parser(
+        "worker", help="add trials to an optuna study kept in a shared storage")
+    worker.add_argument("--storage", required=True, help="SQLAlchemy URL of the storage")
+    worker.add_argument("--study", required=True, help="name of the optuna study")
+    worker.add_argument("--study-file", help="study .toml (default: the text kept in storage)")
+    worker.add_argument("--trials", type=_positive_int,
+                        help="stop when the study has this many complete trials "
+                             "(default: the target of the run that created it)")
+    worker.add_argument("--batch-size", type=_positive_int, help="trials asked at once")
     report = commands.add_parser("report", help="rebuild report.html of a run folder")
     report.add_argument("run_dir", help="a run folder written by explore")
     return parser
@@ -209,6 +218,10 @@ def _dispatch(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
         return _explore(args)
     if args.command == "report":
         return _report(args)
+    if args.command == "worker":
+        from optimag.search.optuna_search import worker_command
+
+        return worker_command(args)
     parser.error(f"unknown command {args.command}")
     return 2
 

@@ -1,28 +1,34 @@
 """Optuna search: a multi-objective sampler proposes designs, the model scores them in batches.
 
-Each trial is one candidate (core, stack, material, turns, gap option, wire, parallel
-strands) and, when the study has a ``[custom_core]`` table, the dimensions of a
-made-to-order core. Trials are asked in batches of ``batch_size``, the whole batch is
-evaluated by one `model.evaluate` call, and every trial is told its objectives (all
-minimised) and its constraint values: the model's normalised violations in
+Each trial is one design: a core (catalogue or, with a ``[custom_core]`` table, a
+made-to-order one with sampled dimensions), stack, material, gap option, turns, wire and
+parallel strands. Turns and winding are drawn as positions in what the drawn core admits
+(decoders, see `OptunaProblem`). Trials are asked in batches of ``batch_size``, the whole
+batch is evaluated by one `model.evaluate` call, and every trial is told its objectives
+(all minimised) and its constraint values: the model's normalised violations in
 `model.CONSTRAINTS` order, feasible when all are <= 0. Infeasible trials are told their
-objectives too; the sampler ranks them by the sum of their positive violations.
+objectives too; the samplers rank them by the sum of their positive violations. A trial
+that decodes to a design already evaluated evaluates its nearest unseen neighbour instead
+(`run_trials`).
 
 Storage and resume
-    The study lives in an optuna storage (default: ``optuna.db`` in the run folder;
-    in memory when there is no run folder). Re-running with the same storage resumes:
-    trials left RUNNING by a killed process are marked FAIL and not counted, and only the
-    trials missing to reach the target number of COMPLETE trials are asked. A kill loses
-    at most the batch in flight.
+    The sampler works on an in-memory study; the study of record lives in an optuna
+    storage (default: ``optuna.db`` in the run folder; none when there is no run folder)
+    and receives every finished batch, one write per trial. Re-running with the same
+    storage resumes: its COMPLETE trials are loaded, trials left RUNNING there (by an
+    older or foreign process) are marked FAIL and not counted, and only the trials missing
+    to reach the target number of COMPLETE trials are asked. A kill loses at most the
+    batch in flight.
 
 Workers
     `run_worker` joins an existing study from its storage alone (the study file's text,
     its path and the catalogue's path and hash are kept as study user attributes) and adds
-    trials until the study holds the target number of COMPLETE trials. Each worker checks
-    the count before each batch, so several workers may overshoot the target by at most
-    ``(workers - 1) * batch_size`` trials; no trial is lost or counted twice (the storage
-    numbers trials). Parallel runs are not reproducible, single-process runs with a fixed
-    seed are.
+    trials until the study holds the target number of COMPLETE trials, learning from the
+    other processes' trials before each batch. Each worker checks the count before each
+    batch, so several workers may overshoot the target by at most
+    ``(workers - 1) * batch_size`` trials; no trial is lost or numbered twice (the storage
+    numbers trials under a lock). Parallel runs are not reproducible; single-process runs
+    with a fixed seed are.
 
 Out-of-range parameter values are mapped, not rejected, the same way whenever a trial is
 read back: a stack above the core's ``max_stack`` is clipped to it, a gap option on a core
@@ -41,6 +47,7 @@ import warnings
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import optuna
@@ -50,7 +57,7 @@ from optimag import __version__, model
 from optimag.errors import InputError, Problem
 from optimag.search import custom_core as geometry
 from optimag.search.exhaustive import CANDIDATE_FIELDS, NEAR_MISS_COUNT, ExhaustiveOutcome
-from optimag.search.pareto import RunningFront
+from optimag.search.pareto import RunningFront, nondominated_mask
 
 try:  # the list-valued key that optuna's samplers read constraint values from
     from optuna.study._constrained_optimization import _CONSTRAINTS_KEY
@@ -62,14 +69,16 @@ __all__ = [
     "OptunaProblem",
     "custom_vs_catalogue",
     "explore_optuna",
+    "memory_study",
     "open_optuna_study",
     "run_trials",
     "run_worker",
+    "worker_command",
 ]
 
-#: NSGA-II population size: small enough that a 2000-trial budget runs ~40 generations
-#: (tuned with tests/benchmarks/optuna_vs_exhaustive.py).
-DEFAULT_POPULATION = 50
+#: NSGA-II population size: large enough to hold separate regions of a fragmented feasible
+#: set while converging within 3000 trials (tuned with tests/benchmarks/optuna_vs_exhaustive.py).
+DEFAULT_POPULATION = 100
 
 #: Study user-attribute names (a worker rebuilds the design space from these).
 ATTR_STUDY_TEXT = "optimag.study_text"
@@ -81,6 +90,17 @@ ATTR_SAMPLER = "optimag.sampler"
 ATTR_BATCH = "optimag.batch_size"
 ATTR_OBJECTIVES = "optimag.objectives"
 ATTR_VERSION = "optimag.version"
+#: Study user attribute: what the integer parameters index (core and wire orders).
+ATTR_PARAMETERS = "optimag.parameters"
+#: Trial user attribute: the design evaluated when it differs from the decoded one.
+ATTR_DESIGN = "optimag.design"
+
+if TYPE_CHECKING:
+    import argparse
+
+    from optimag.catalog import Catalog
+    from optimag.search.run import ExploreResult
+    from optimag.spec import Study
 
 _CUSTOM_PARAM_PREFIX = "custom_"
 
@@ -122,41 +142,91 @@ class TrialTable:
 class OptunaProblem:
     """A study's design space as optuna parameters, and back.
 
-    Parameters: ``core`` (catalogue id, or ``"custom"``), ``stack``, ``material``,
-    ``turns``, ``gap_mm`` (only with a gap grid), ``wire``, ``parallel`` and, with a
-    custom core, ``custom_<dimension>_mm`` for each dimension with a range. Custom
-    dimensions are drawn in every trial, catalogue core or not, so the search space stays
-    the same for every trial (the samplers then model them jointly).
+    Parameters of a trial:
+
+    * ``core_source`` — ``"catalogue"`` or ``"custom"`` (only when both are searched);
+    * ``core`` — position of the catalogue core in the cores sorted by area product
+      Ae x window area, so a small step is a small change of size;
+    * ``stack``, ``material`` and, with a gap grid, ``gap_mm``;
+    * with ``decoders`` (default): ``turns_position`` and ``winding_position`` in [0, 1];
+      without: ``turns``, ``wire`` (position in the wires sorted by copper area) and
+      ``parallel``;
+    * with a custom core: ``custom_<dimension>_mm`` for each dimension with a range.
+
+    Every parameter is drawn in every trial, so the search space stays the same for all
+    trials and the samplers model them jointly.
+
+    The decoders (decoder-based constraint handling) turn the two positions into turns
+    and a winding that the drawn core admits:
+
+    * turns: the magnetic constraints (`model.MAGNETIC_CONSTRAINTS`) hold on a narrow band
+      of turns (a gapless powder or ring core meets the inductance at one or two turn
+      counts only); ``turns_position`` picks the turn count at that relative position in
+      the band;
+    * winding: the (wire, parallel) pairs sorted by copper area per turn; the winding
+      constraints (`model.WINDING_CONSTRAINTS`: fit, fill, height, footprint) select the
+      pairs the core and turns admit; ``winding_position`` picks one at that relative
+      position.
+
+    Where nothing is admissible the position is applied to the whole range instead, the
+    trial is infeasible and its violations steer the sampler away.
     """
 
-    def __init__(self, study, catalog, space: model.DesignSpace | None = None,
-                 turns_decoder: bool = True, encoding: str = "ordinal"):
-        self.turns_decoder = turns_decoder
+    def __init__(self, study: Study, catalog: Catalog,
+                 space: model.DesignSpace | None = None, decoders: bool = True):
         self.study = study
         self.catalog = catalog
         self.space = space if space is not None else model.build_design_space(study, catalog)
         self.objectives = list(study.search.objectives)
         self.custom = getattr(study, "custom_core", None)
-        self.encoding = encoding
+        self.decoders = decoders
         cores, wires = self.space.cores, self.space.wires
         with_catalogue = self.custom is None or self.custom.include_catalogue_cores
-        # Ordinal parameters: cores by area product Ae x window area, wires by copper
-        # area, so that a small step of the sampler is a small change of the design.
-        self.core_order = (np.argsort(cores.ae_m2 * cores.window_area_m2, kind="stable")
-                           if with_catalogue else np.empty(0, dtype=np.int64))
-        self.wire_order = np.argsort(wires.copper_area_m2, kind="stable")
-        self.core_sources = (["catalogue"] if with_catalogue else []) + (
-            ["custom"] if self.custom is not None else [])
-        if not self.core_sources:
-            raise ValueError("no core to search")
+        viable = self._cores_within_size_limits() if with_catalogue else np.empty(0, int)
+        self.excluded_cores = [str(cores.ids[i]) for i in range(len(cores.ids))
+                               if with_catalogue and i not in set(viable.tolist())]
+        size = cores.ae_m2[viable] * cores.window_area_m2[viable]
+        self.core_order = viable[np.argsort(size, kind="stable")]
         if with_catalogue and len(self.core_order) == 0:
             raise ValueError("no core to search: the catalogue filter left none")
-        self.core_choices = [str(cores.ids[i]) for i in self.core_order] + (
+        self.core_sources = (["catalogue"] if with_catalogue else []) + (
             ["custom"] if self.custom is not None else [])
-        self._core_index = {str(c): i for i, c in enumerate(cores.ids)}
+        self.wire_order = np.argsort(wires.copper_area_m2, kind="stable")
+        wire_grid, parallel_grid = (g.ravel() for g in np.meshgrid(
+            np.arange(len(wires.ids)), self.space.parallels, indexing="ij"))
+        order = np.argsort(wires.copper_area_m2[wire_grid] * parallel_grid, kind="stable")
+        self.winding_wire, self.winding_parallel = wire_grid[order], parallel_grid[order]
         self._material_index = {str(m): i for i, m in enumerate(self.space.materials.ids)}
-        self._wire_index = {str(w): i for i, w in enumerate(wires.ids)}
         self.dimension_ranges = self.custom.dimension_ranges_m() if self.custom else {}
+        self._turn_cache: dict[tuple, np.ndarray] = {}
+        self._winding_cache: dict[tuple, np.ndarray] = {}
+        self._exhausted: set[tuple] = set()
+
+    def _cores_within_size_limits(self) -> np.ndarray:
+        """Catalogue cores that can meet the height and footprint limits at all.
+
+        The wound box grows with the stack, the turns, the strands in parallel and the
+        conductor build, so the smallest box a core can have is that of its smallest
+        stack wound with one turn of the thinnest-building conductor. A core whose
+        smallest box already breaks a limit cannot be part of a feasible design and is
+        left out of the sampled cores (the exhaustive search counts such designs as
+        eliminated by that limit). If no core is left, all are kept so the run can still
+        report its nearest misses.
+        """
+        space = self.space
+        n_core, n_wire = len(space.cores.ids), len(space.wires.ids)
+        core, wire = (g.ravel() for g in np.meshgrid(
+            np.arange(n_core), np.arange(n_wire), indexing="ij"))
+        ones = np.ones_like(core)
+        layout = model.winding_layout_stage(
+            space, core, ones * int(space.stacks[0]), ones * int(space.turns[0]), wire,
+            ones * int(space.parallels[0]),
+        )
+        fits = np.ones(len(core), dtype=bool)
+        for name in ("height", "footprint"):
+            fits &= ~(layout[f"violation_{name}"] > 0)
+        viable = np.flatnonzero(fits.reshape(n_core, n_wire).any(axis=1))
+        return viable if viable.size else np.arange(n_core)
 
     # --- naming -------------------------------------------------------------------------
 
@@ -172,29 +242,36 @@ class OptunaProblem:
     def dimension_names(self) -> list[str]:
         return list(self.dimension_ranges)
 
+    def describe(self) -> dict:
+        """What the integer parameters mean (kept with the optuna study)."""
+        return {
+            "core": [str(self.space.cores.ids[i]) for i in self.core_order],
+            "wire": [str(self.space.wires.ids[i]) for i in self.wire_order],
+            "decoders": self.decoders,
+            "cores_left_out_by_size_limits": self.excluded_cores,
+        }
+
     # --- sampling -----------------------------------------------------------------------
 
     def suggest(self, trial: optuna.Trial) -> None:
         """Draw every parameter of ``trial``."""
-        s = self.study.search
         space = self.space
-        if self.encoding == "categorical":
-            trial.suggest_categorical("core", self.core_choices)
-        else:
-            if len(self.core_sources) > 1:
-                trial.suggest_categorical("core_source", self.core_sources)
-            if len(self.core_order):
-                trial.suggest_int("core", 0, len(self.core_order) - 1)
+        if len(self.core_sources) > 1:
+            trial.suggest_categorical("core_source", self.core_sources)
+        if len(self.core_order):
+            trial.suggest_int("core", 0, len(self.core_order) - 1)
         trial.suggest_int("stack", int(space.stacks[0]), int(space.stacks[-1]))
         trial.suggest_categorical("material", [str(m) for m in space.materials.ids])
-        trial.suggest_int("turns", int(space.turns[0]), int(space.turns[-1]))
         if space.gap_grid_m is not None:
-            trial.suggest_categorical("gap_mm", [float(g) for g in s.gap_grid_mm])
-        if self.encoding == "categorical":
-            trial.suggest_categorical("wire", [str(w) for w in space.wires.ids])
+            trial.suggest_categorical(
+                "gap_mm", [float(g) for g in self.study.search.gap_grid_mm])
+        if self.decoders:
+            trial.suggest_float("turns_position", 0.0, 1.0)
+            trial.suggest_float("winding_position", 0.0, 1.0)
         else:
+            trial.suggest_int("turns", int(space.turns[0]), int(space.turns[-1]))
             trial.suggest_int("wire", 0, len(self.wire_order) - 1)
-        trial.suggest_int("parallel", int(space.parallels[0]), int(space.parallels[-1]))
+            trial.suggest_int("parallel", int(space.parallels[0]), int(space.parallels[-1]))
         step = self.custom.step_mm if self.custom else None
         for name, (low, high) in self.dimension_ranges.items():
             low_mm, high_mm = low * 1e3, high * 1e3
@@ -211,20 +288,29 @@ class OptunaProblem:
     # --- decoding -----------------------------------------------------------------------
 
     def decode(self, numbers: Sequence[int], params: Sequence[dict]) -> TrialTable:
-        """Turn trial parameters into index arrays (with the mappings of the module
-        docstring applied)."""
+        """Turn trial parameters into designs (index arrays), with the decoders and the
+        mappings of the module docstring applied. Deterministic: the same parameters give
+        the same design whenever they are read."""
+        n = len(params)
+        per_chunk = max(1, _DECODE_ROWS // max(len(self.space.turns),
+                                               len(self.winding_wire)))
+        if n <= per_chunk:
+            return self._decode(numbers, params)
+        parts = [self._decode(numbers[lo:lo + per_chunk], params[lo:lo + per_chunk])
+                 for lo in range(0, n, per_chunk)]
+        return TrialTable(**{
+            f.name: np.concatenate([getattr(p, f.name) for p in parts])
+            for f in dataclasses.fields(TrialTable)
+        })
+
+    def _decode(self, numbers: Sequence[int], params: Sequence[dict]) -> TrialTable:
         space = self.space
         n = len(params)
+        column = lambda key: np.array([p[key] for p in params])  # noqa: E731
         catalogue_core = np.array([self._catalogue_core(p) for p in params], dtype=np.int64)
-        stack = np.array([p["stack"] for p in params], dtype=np.int64)
+        stack = column("stack").astype(np.int64).reshape(n)
         material = np.array([self._material_index[p["material"]] for p in params],
                             dtype=np.int64)
-        turns = np.array([p["turns"] for p in params], dtype=np.int64)
-        if self.encoding == "categorical":
-            wire = np.array([self._wire_index[p["wire"]] for p in params], dtype=np.int64)
-        else:
-            wire = self.wire_order[np.array([p["wire"] for p in params], dtype=np.int64)]
-        parallel = np.array([p["parallel"] for p in params], dtype=np.int64)
         gap_option = np.zeros(n, dtype=np.int64)
         if space.gap_grid_m is not None:
             grid_mm = [float(g) for g in self.study.search.gap_grid_mm]
@@ -245,24 +331,67 @@ class OptunaProblem:
         dims[~custom] = np.nan
         if self.custom is not None and custom.any():
             dims[custom] = self._clip_height(dims[custom])
+        if self.decoders:
+            turns = np.zeros(n, dtype=np.int64)
+            wire = parallel = turns
+        else:
+            turns = column("turns").astype(np.int64).reshape(n)
+            wire = self.wire_order[column("wire").astype(np.int64).reshape(n)]
+            parallel = column("parallel").astype(np.int64).reshape(n)
         table = TrialTable(
-            number=np.asarray(numbers, dtype=np.int64), catalogue_core=catalogue_core,
-            stack=stack, material=material, turns=turns, gap_option=gap_option, wire=wire,
-            parallel=parallel, custom_dims_m=dims,
+            number=np.asarray(numbers, dtype=np.int64).reshape(n),
+            catalogue_core=catalogue_core, stack=stack, material=material, turns=turns,
+            gap_option=gap_option, wire=wire, parallel=parallel, custom_dims_m=dims,
         )
-        if not self.turns_decoder or n == 0:
+        if not self.decoders or n == 0:
             return table
-        per_chunk = max(1, _DECODE_ROWS // len(space.turns))
-        parts = [self.magnetic_turns(table.take(slice(lo, lo + per_chunk)))
-                 for lo in range(0, len(table), per_chunk)]
-        if len(parts) == 1:
-            return parts[0]
-        return dataclasses.replace(table, turns=np.concatenate([p.turns for p in parts]))
+        table = self._decode_turns(table, column("turns_position").astype(float).reshape(n))
+        return self._decode_winding(table, column("winding_position").astype(float).reshape(n))
+
+    @staticmethod
+    def _pick(admissible: np.ndarray, position: np.ndarray) -> np.ndarray:
+        """Column index at relative ``position`` among the admissible columns of each row
+        (among all columns where a row has none)."""
+        admissible = np.where(admissible.any(axis=1, keepdims=True), admissible, True)
+        count = admissible.sum(axis=1)
+        wanted = np.minimum(np.floor(position * count), count - 1).astype(np.int64)
+        rank = np.cumsum(admissible, axis=1) - 1
+        return np.argmax(admissible & (rank == wanted[:, None]), axis=1)
+
+    def _decode_turns(self, table: TrialTable, position: np.ndarray) -> TrialTable:
+        space, candidates = self.materialise(table)
+        grid = space.turns
+        n, m = len(table), len(grid)
+        rows = np.repeat(np.arange(n), m)
+        mag = model.magnetic_stage(
+            space, candidates.core[rows], candidates.stack[rows], candidates.material[rows],
+            np.tile(grid, n), candidates.gap_option[rows],
+        )
+        admissible = np.ones(n * m, dtype=bool)
+        for name in model.MAGNETIC_CONSTRAINTS:
+            admissible &= ~(mag[f"violation_{name}"] > 0)
+        turns = grid[self._pick(admissible.reshape(n, m), position)]
+        return dataclasses.replace(table, turns=turns.astype(np.int64))
+
+    def _decode_winding(self, table: TrialTable, position: np.ndarray) -> TrialTable:
+        space, candidates = self.materialise(table)
+        n, m = len(table), len(self.winding_wire)
+        rows = np.repeat(np.arange(n), m)
+        layout = model.winding_layout_stage(
+            space, candidates.core[rows], candidates.stack[rows], candidates.turns[rows],
+            np.tile(self.winding_wire, n), np.tile(self.winding_parallel, n),
+        )
+        admissible = np.ones(n * m, dtype=bool)
+        for name in model.WINDING_CONSTRAINTS:
+            admissible &= ~(layout[f"violation_{name}"] > 0)
+        pick = self._pick(admissible.reshape(n, m), position)
+        return dataclasses.replace(
+            table, wire=self.winding_wire[pick].astype(np.int64),
+            parallel=self.winding_parallel[pick].astype(np.int64),
+        )
 
     def _catalogue_core(self, params: dict) -> int:
         """Catalogue core index of a trial, -1 for a custom core."""
-        if self.encoding == "categorical":
-            return -1 if params["core"] == "custom" else self._core_index[params["core"]]
         source = params.get("core_source", self.core_sources[0])
         return -1 if source == "custom" else int(self.core_order[params["core"]])
 
@@ -354,6 +483,71 @@ class OptunaProblem:
                    table.gap_option, table.wire, table.parallel, *dims.T]
         return list(zip(*(c.tolist() for c in columns), strict=True))
 
+    def unseen_neighbour(self, row: TrialTable, seen: set) -> TrialTable | None:
+        """The nearest design to the one-row ``row`` that is not in ``seen``, changing
+        only the winding and, if every admissible winding is taken, the turns; None when
+        the whole admissible neighbourhood has been evaluated.
+
+        Order: windings at growing distance (in the copper-area order of admissible
+        pairs) at the same turns, then the next admissible turn counts up and down.
+        """
+        space, candidates = self.materialise(row)
+        core, stack = int(candidates.core[0]), int(candidates.stack[0])
+        material, gap = int(candidates.material[0]), int(candidates.gap_option[0])
+        # Catalogue cores repeat from trial to trial: keep their admissible sets.
+        cacheable = not row.is_custom[0]
+        key = (core, stack, material, gap)
+        if cacheable and key in self._exhausted:
+            return None
+        turn_choices = self._turn_cache.get(key) if cacheable else None
+        if turn_choices is None:
+            grid = space.turns
+            ones = np.ones(len(grid), dtype=np.int64)
+            mag = model.magnetic_stage(space, core * ones, stack * ones, material * ones,
+                                       grid, gap * ones)
+            turn_ok = np.ones(len(grid), dtype=bool)
+            for name in model.MAGNETIC_CONSTRAINTS:
+                turn_ok &= ~(mag[f"violation_{name}"] > 0)
+            turn_choices = grid[turn_ok] if turn_ok.any() else grid
+            if cacheable:
+                self._turn_cache[key] = turn_choices
+        start = int(np.argmin(np.abs(turn_choices - row.turns[0])))
+        m = len(self.winding_wire)
+        wones = np.ones(m, dtype=np.int64)
+        current = np.flatnonzero((self.winding_wire == row.wire[0])
+                                 & (self.winding_parallel == row.parallel[0]))
+        # Key layout of `design_keys`: (core, stack, material, turns, gap, wire, parallel,
+        # custom dimensions...).
+        key_now = self.design_keys(row)[0]
+        head, gap_key, tail = key_now[:3], key_now[4], key_now[7:]
+        for t_index in _outward(start, len(turn_choices)):
+            turns = int(turn_choices[t_index])
+            choices = self._winding_cache.get((core, stack, turns)) if cacheable else None
+            if choices is None:
+                layout = model.winding_layout_stage(
+                    space, core * wones, stack * wones, turns * wones, self.winding_wire,
+                    self.winding_parallel,
+                )
+                ok = np.ones(m, dtype=bool)
+                for name in model.WINDING_CONSTRAINTS:
+                    ok &= ~(layout[f"violation_{name}"] > 0)
+                choices = np.flatnonzero(ok) if ok.any() else np.arange(m)
+                if cacheable:
+                    self._winding_cache[(core, stack, turns)] = choices
+            anchor = int(np.argmin(np.abs(choices - (current[0] if current.size else 0))))
+            for w_index in _outward(anchor, len(choices)):
+                pick = int(choices[w_index])
+                wire, parallel = int(self.winding_wire[pick]), int(self.winding_parallel[pick])
+                if (*head, turns, gap_key, wire, parallel, *tail) not in seen:
+                    return dataclasses.replace(
+                        row, turns=np.array([turns]), wire=np.array([wire]),
+                        parallel=np.array([parallel]),
+                    )
+        if cacheable:
+            # Every neighbour is in `seen`, which only grows: it stays exhausted.
+            self._exhausted.add(key)
+        return None
+
     # --- evaluation ---------------------------------------------------------------------
 
     def materialise(self, table: TrialTable) -> tuple[model.DesignSpace, model.Candidates]:
@@ -374,41 +568,6 @@ class OptunaProblem:
         )
         return space, candidates
 
-    def magnetic_turns(self, table: TrialTable) -> TrialTable:
-        """Map each trial's drawn turns into the turns its (core, stack, material, gap)
-        admits magnetically.
-
-        The magnetic constraints (`model.MAGNETIC_CONSTRAINTS`: inductance reachable,
-        no saturation, inductance kept at peak) depend on the turns through a narrow band
-        (a gapless powder or ring core meets the inductance at one or two turn counts
-        only). The drawn value is read as a position in the study's turns range and
-        taken to the same relative position in the admissible set, so neighbouring
-        draws stay neighbours. Where no turn count is admissible the drawn one is kept
-        (the trial is then infeasible and its violations steer the sampler away).
-        """
-        if len(table) == 0:
-            return table
-        space, candidates = self.materialise(table)
-        grid = space.turns
-        n, m = len(table), len(grid)
-        rows = np.repeat(np.arange(n), m)
-        mag = model.magnetic_stage(
-            space, candidates.core[rows], candidates.stack[rows], candidates.material[rows],
-            np.tile(grid, n), candidates.gap_option[rows],
-        )
-        admissible = np.ones(n * m, dtype=bool)
-        for name in model.MAGNETIC_CONSTRAINTS:
-            admissible &= ~(mag[f"violation_{name}"] > 0)
-        admissible = admissible.reshape(n, m)
-        count = admissible.sum(axis=1)
-        span = max(int(grid[-1] - grid[0]), 1)
-        position = (table.turns - grid[0]) / span
-        wanted = np.rint(position * np.maximum(count - 1, 0)).astype(np.int64)
-        rank = np.cumsum(admissible, axis=1) - 1
-        pick = np.argmax(admissible & (rank == wanted[:, None]), axis=1)
-        turns = np.where(count > 0, grid[pick], table.turns)
-        return dataclasses.replace(table, turns=turns.astype(np.int64))
-
     def evaluate(self, table: TrialTable) -> tuple[np.ndarray, np.ndarray]:
         """Objectives (n, n_objectives) and violations (n, n_constraints) of a batch,
         with one `model.evaluate` call."""
@@ -421,6 +580,15 @@ class OptunaProblem:
         objectives = np.where(np.isfinite(objectives), objectives, np.finfo(float).max / 1e6)
         violations = np.where(np.isnan(violations), 1.0, violations)
         return objectives, violations
+
+
+def _outward(start: int, size: int):
+    """Indices start, start+1, start-1, start+2, ... within [0, size)."""
+    yield start
+    for step in range(1, size):
+        for index in (start + step, start - step):
+            if 0 <= index < size:
+                yield index
 
 
 def custom_core_id(family: str, trial_number: int) -> str:
@@ -441,7 +609,8 @@ def _concat_cores(a: model.CoreArrays, b: model.CoreArrays) -> model.CoreArrays:
 # ---------------------------------------------------------------------------------------
 
 
-def make_sampler(name: str, seed: int | None, population_size: int = DEFAULT_POPULATION):
+def make_sampler(name: str, seed: int | None, population_size: int = DEFAULT_POPULATION,
+                 mutation_prob: float | None = None) -> optuna.samplers.BaseSampler:
     """The study's sampler: NSGA-II (default) or multivariate TPE.
 
     Constraint values are stored on each trial before it is told (see `_store_constraints`),
@@ -463,7 +632,7 @@ def make_sampler(name: str, seed: int | None, population_size: int = DEFAULT_POP
 
             kwargs["mutation"] = PolynomialMutation()
         return optuna.samplers.NSGAIISampler(
-            seed=seed, population_size=population_size, **kwargs
+            seed=seed, population_size=population_size, mutation_prob=mutation_prob, **kwargs
         )
 
 
@@ -492,19 +661,20 @@ def shown_storage(url: str | None) -> str:
 
 def open_optuna_study(
     problem: OptunaProblem,
-    storage: str | None,
-    sampler,
+    storage: str,
     *,
     target: int,
     batch_size: int,
     sampler_name: str,
 ) -> optuna.Study:
-    """Create or load the optuna study of ``problem`` and record what a worker needs."""
+    """Create or load the optuna study of ``problem`` in ``storage`` and record what a
+    worker needs to join it. Its trials are written by `run_trials`; the sampler runs
+    on an in-memory copy."""
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     directions = ["minimize"] * len(problem.objectives)
     ostudy = optuna.create_study(
-        storage=storage, sampler=sampler, study_name=problem.study_name,
-        directions=directions, load_if_exists=True,
+        storage=storage, study_name=problem.study_name, directions=directions,
+        load_if_exists=True,
     )
     attrs = ostudy.user_attrs
     catalog_hash = str(problem.catalog.content_hash)
@@ -529,6 +699,7 @@ def open_optuna_study(
         ostudy.set_user_attr(ATTR_SAMPLER, sampler_name)
         ostudy.set_user_attr(ATTR_BATCH, int(batch_size))
         ostudy.set_user_attr(ATTR_VERSION, __version__)
+        ostudy.set_user_attr(ATTR_PARAMETERS, problem.describe())
     if attrs.get(ATTR_TARGET) != int(target):
         ostudy.set_user_attr(ATTR_TARGET, int(target))
     return ostudy
@@ -584,26 +755,43 @@ def run_trials(
     batch_size: int,
     progress: Callable[[int, int], None] | None = None,
     deduplicate: bool = True,
+    disk: optuna.Study | None = None,
 ) -> RunCounts:
     """Ask, evaluate and tell batches until the study has ``target`` COMPLETE trials.
 
     The COMPLETE count is read from the storage before every batch, so other processes
-    working on the same study are taken into account. A trial that proposes a design
-    already evaluated (in the storage when this call started, or by this call) is told
-    FAIL without evaluation and not counted: genetic samplers otherwise fill their
-    population with copies of a few designs. A KeyboardInterrupt fails the batch in
-    flight and returns with ``interrupted`` set.
+    working on the same study are taken into account.
+
+    With ``deduplicate``, a trial whose parameters decode to a design already evaluated
+    (in the storage when this call started, or by this call) evaluates the nearest
+    design not yet evaluated instead (`OptunaProblem.unseen_neighbour`) and keeps it in
+    its user attribute ``optimag.design``: a converging genetic sampler otherwise spends
+    most of its trials on copies of the designs it has found. A KeyboardInterrupt fails
+    the batch in flight and returns with ``interrupted`` set.
+
+    With a ``disk`` study (the storage), ``ostudy`` is an in-memory study: before each
+    batch the COMPLETE trials other processes added to ``disk`` are copied in (so the
+    sampler learns from them) and the COMPLETE count is read from ``disk``; after it,
+    every finished trial is written to ``disk`` whole, one write per trial instead of one
+    per parameter and attribute (optuna's database storage spends most of a trial's time
+    on those). A kill loses at most the batch not yet written, and leaves nothing
+    RUNNING in the storage.
     """
     counts = RunCounts()
     start = time.perf_counter()
+    known = _DiskSync(ostudy, disk) if disk is not None else None
     seen: set[tuple] = set()
     if deduplicate:
         seen.update(problem.design_keys(harvest(ostudy, problem).table))
-    barren_batches = 0
     in_flight: list[optuna.Trial] = []
     try:
         while True:
-            done = complete_count(ostudy)
+            if known is not None:
+                pulled = known.pull()
+                if deduplicate and pulled:
+                    seen.update(problem.design_keys(problem.decode(
+                        [t.number for t in pulled], [t.params for t in pulled])))
+            done = complete_count(disk if disk is not None else ostudy)
             if progress:
                 progress(done, target)
             if done >= target:
@@ -615,22 +803,31 @@ def run_trials(
                 problem.suggest(trial)
             table = problem.decode([t.number for t in in_flight],
                                    [t.params for t in in_flight])
-            keep = np.ones(size, dtype=bool)
-            if deduplicate and barren_batches < DUPLICATE_PATIENCE:
-                for k, key in enumerate(problem.design_keys(table)):
-                    keep[k] = key not in seen
-                    seen.add(key)
-            barren_batches = barren_batches + 1 if not keep.any() else 0
-            for k in np.flatnonzero(~keep):
-                ostudy.tell(in_flight[k], state=TrialState.FAIL)
-            counts.duplicates += int(np.count_nonzero(~keep))
-            rows = np.flatnonzero(keep)
-            if rows.size:
-                objectives, violations = problem.evaluate(table.take(rows))
-                for j, k in enumerate(rows):
-                    _store_constraints(ostudy, in_flight[k], violations[j])
-                    ostudy.tell(in_flight[k], objectives[j].tolist())
-            counts.told += int(rows.size)
+            moved: dict[int, TrialTable] = {}
+            if deduplicate:
+                keys = problem.design_keys(table)
+                for k in range(size):
+                    if keys[k] in seen:
+                        neighbour = problem.unseen_neighbour(table.take([k]), seen)
+                        if neighbour is not None:
+                            moved[k] = neighbour
+                            keys[k] = problem.design_keys(neighbour)[0]
+                    seen.add(keys[k])
+                if moved:
+                    table = _replace_rows(table, moved)
+            counts.duplicates += len(moved)
+            objectives, violations = problem.evaluate(table)
+            for k, trial in enumerate(in_flight):
+                if k in moved:
+                    # The evaluated design is not the one its parameters decode to.
+                    trial.set_user_attr(ATTR_DESIGN, {
+                        "turns": int(table.turns[k]), "wire": int(table.wire[k]),
+                        "parallel": int(table.parallel[k])})
+                _store_constraints(ostudy, trial, violations[k])
+                ostudy.tell(trial, objectives[k].tolist())
+            if known is not None:
+                known.push(in_flight)
+            counts.told += size
             in_flight = []
     except KeyboardInterrupt:
         counts.interrupted = True
@@ -640,6 +837,32 @@ def run_trials(
                 ostudy.tell(trial, state=TrialState.FAIL)
     counts.wall_time_s = time.perf_counter() - start
     return counts
+
+
+class _DiskSync:
+    """Keeps an in-memory study and its storage study in step (see `run_trials`)."""
+
+    def __init__(self, memory: optuna.Study, disk: optuna.Study):
+        self.memory, self.disk = memory, disk
+        self.on_disk: set[int] = set()  # storage trial ids already in memory
+
+    def pull(self) -> list[optuna.trial.FrozenTrial]:
+        """Copy COMPLETE trials of the storage that memory lacks; returns them."""
+        new = [t for t in self.disk.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
+               if t._trial_id not in self.on_disk]
+        self.on_disk.update(t._trial_id for t in new)
+        if new:
+            self.memory.add_trials(new)
+        return new
+
+    def push(self, trials: Sequence[optuna.Trial]) -> None:
+        """Write finished in-memory trials to the storage, one write each."""
+        for trial in trials:
+            frozen = self.memory._storage.get_trial(trial._trial_id)
+            if frozen.state != TrialState.COMPLETE:
+                continue
+            self.on_disk.add(self.disk._storage.create_new_trial(
+                self.disk._study_id, template_trial=frozen))
 
 
 # ---------------------------------------------------------------------------------------
@@ -660,6 +883,13 @@ class Harvest:
         return ~(self.violations > 0).any(axis=1)
 
 
+def _replace_rows(table: TrialTable, rows: dict[int, TrialTable]) -> TrialTable:
+    turns, wire, parallel = table.turns.copy(), table.wire.copy(), table.parallel.copy()
+    for k, row in rows.items():
+        turns[k], wire[k], parallel[k] = row.turns[0], row.wire[0], row.parallel[0]
+    return dataclasses.replace(table, turns=turns, wire=wire, parallel=parallel)
+
+
 def harvest(ostudy: optuna.Study, problem: OptunaProblem) -> Harvest:
     """Read every COMPLETE trial back from the storage."""
     trials = ostudy.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
@@ -670,6 +900,15 @@ def harvest(ostudy: optuna.Study, problem: OptunaProblem) -> Harvest:
         [[t.constraints.get(str(i), 1.0) for i in range(n_con)] for t in trials], dtype=float
     ).reshape(len(trials), n_con)
     table = problem.decode([t.number for t in trials], [t.params for t in trials])
+    moved = {k: t.user_attrs[ATTR_DESIGN] for k, t in enumerate(trials)
+             if ATTR_DESIGN in t.user_attrs}
+    if moved:
+        table = _replace_rows(table, {k: TrialTable(
+            number=table.number[[k]], catalogue_core=table.catalogue_core[[k]],
+            stack=table.stack[[k]], material=table.material[[k]],
+            turns=np.array([d["turns"]]), gap_option=table.gap_option[[k]],
+            wire=np.array([d["wire"]]), parallel=np.array([d["parallel"]]),
+            custom_dims_m=table.custom_dims_m[[k]]) for k, d in moved.items()})
     return Harvest(table, objectives, violations)
 
 
@@ -685,27 +924,39 @@ def custom_vs_catalogue(
     catalogue_volume: np.ndarray, catalogue_loss: np.ndarray,
     custom_volume: np.ndarray, custom_loss: np.ndarray,
 ) -> list[dict]:
-    """For each catalogue design, the smallest custom volume at the same or lower loss.
+    """For each catalogue design on the (volume, loss) front, the smallest custom volume
+    at the same or lower loss.
 
-    Returns one row per catalogue design (sorted by loss): its loss and volume, the best
-    custom volume with loss <= it (None when no custom design is that efficient) and the
-    ratio catalogue volume / custom volume (> 1: the catalogue design is that much larger).
+    Returns one row per catalogue design on that front (sorted by loss): its row index
+    ``catalogue`` in the inputs, loss and volume, the index ``custom`` and volume of the
+    smallest custom design with a loss no higher (None when no custom design is that
+    efficient), and ``volume_ratio`` = catalogue volume / custom volume (> 1: the
+    catalogue design is that much larger at equal loss).
     """
+    catalogue_volume = np.asarray(catalogue_volume, dtype=float)
+    catalogue_loss = np.asarray(catalogue_loss, dtype=float)
+    custom_volume = np.asarray(custom_volume, dtype=float)
+    custom_loss = np.asarray(custom_loss, dtype=float)
+    on_front = np.flatnonzero(nondominated_mask(np.column_stack([catalogue_volume,
+                                                                 catalogue_loss])))
     rows = []
-    for k in np.argsort(catalogue_loss, kind="stable"):
-        ok = custom_loss <= catalogue_loss[k]
-        best = float(custom_volume[ok].min()) if ok.any() else None
+    for k in on_front[np.argsort(catalogue_loss[on_front], kind="stable")]:
+        ok = np.flatnonzero(custom_loss <= catalogue_loss[k])
+        best = int(ok[np.argmin(custom_volume[ok])]) if ok.size else None
+        custom = None if best is None else float(custom_volume[best])
         rows.append({
+            "catalogue": int(k),
             "loss_W": float(catalogue_loss[k]),
             "catalogue_volume_cm3": float(catalogue_volume[k]),
-            "custom_volume_cm3": best,
-            "volume_ratio": (float(catalogue_volume[k]) / best) if best else None,
+            "custom": best,
+            "custom_volume_cm3": custom,
+            "volume_ratio": None if custom is None else float(catalogue_volume[k]) / custom,
         })
     return rows
 
 
 def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts: RunCounts,
-                 settings: dict):
+                 settings: dict) -> ExploreResult:
     """The `ExploreResult` of the study's COMPLETE trials (the exhaustive search's
     assembly, fed with the optuna front)."""
     from optimag.search.run import _assemble
@@ -759,6 +1010,9 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
         "trials_this_run": counts.told,
         "stale_trials_failed": counts.failed_stale,
         "trials_per_s": record["candidates_per_s"],
+        "repeated_designs_replaced": counts.duplicates,
+        "decoders": problem.decoders,
+        "cores_left_out_by_size_limits": problem.excluded_cores,
         "optuna_version": optuna.__version__,
     }
     if problem.custom is not None:
@@ -775,19 +1029,26 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
 
 def _custom_comparison(problem, space, candidates, position, catalogue_front, custom_front):
     if catalogue_front.size == 0 or custom_front.size == 0:
-        return {"rows": [], "note": "needs feasible designs on both catalogue and custom cores"}
+        return {"rows": [], "median_volume_ratio": None,
+                "note": "needs feasible designs on both catalogue and custom cores"}
     figures = {}
     for label, rows in (("catalogue", catalogue_front), ("custom", custom_front)):
-        metrics = model.evaluate(
-            space, candidates.take(np.array([position[int(r)] for r in rows])))
-        figures[label] = (metrics["volume_cm3"], metrics["total_loss_W"])
-    rows = custom_vs_catalogue(*figures["catalogue"], *figures["custom"])
-    ratios = [r["volume_ratio"] for r in rows if r["volume_ratio"] is not None]
+        picked = candidates.take(np.array([position[int(r)] for r in rows]))
+        metrics = model.evaluate(space, picked)
+        figures[label] = (picked, metrics["volume_cm3"], metrics["total_loss_W"])
+    table = custom_vs_catalogue(*figures["catalogue"][1:], *figures["custom"][1:])
+    ids = space.cores.ids
+    for row in table:
+        cat, cus = figures["catalogue"][0], figures["custom"][0]
+        row["catalogue_core"] = str(ids[cat.core[row.pop("catalogue")]])
+        best = row.pop("custom")
+        row["custom_core"] = None if best is None else str(ids[cus.core[best]])
+    ratios = [r["volume_ratio"] for r in table if r["volume_ratio"] is not None]
     return {
-        "rows": rows,
+        "rows": table,
         "median_volume_ratio": float(np.median(ratios)) if ratios else None,
-        "note": "catalogue front designs against the smallest custom-core design with the "
-        "same or lower loss; ratio = catalogue volume / custom volume",
+        "note": "catalogue designs on the volume-loss front against the smallest custom-core "
+        "design with the same or lower loss; volume_ratio = catalogue volume / custom volume",
     }
 
 
@@ -797,8 +1058,8 @@ def _custom_comparison(problem, space, candidates, position, catalogue_front, cu
 
 
 def explore_optuna(
-    study,
-    catalog=None,
+    study: Study | str | Path,
+    catalog: Catalog | None = None,
     trials: int | None = None,
     seed: int | None = None,
     top: int = 20,
@@ -809,7 +1070,7 @@ def explore_optuna(
     batch_size: int | None = None,
     population_size: int = DEFAULT_POPULATION,
     progress: Callable[[int, int], None] | None = None,
-):
+) -> ExploreResult:
     """Search the study's design space with optuna and return an `ExploreResult`.
 
     ``trials``, ``seed``, ``sampler`` and ``batch_size`` default to the study's
@@ -834,22 +1095,34 @@ def explore_optuna(
 
     problem = OptunaProblem(study, catalog)
     url = storage_url_for(run_dir, storage)
-    ostudy = open_optuna_study(
-        problem, url, make_sampler(sampler_name, seed, population_size), target=trials,
-        batch_size=batch_size, sampler_name=sampler_name,
-    )
-    stale = fail_stale_trials(ostudy)
-    counts = run_trials(ostudy, problem, trials, batch_size, progress=progress)
+    sampler_object = make_sampler(sampler_name, seed, population_size)
+    disk = None
+    stale = 0
+    if url is not None:
+        disk = open_optuna_study(problem, url, target=trials, batch_size=batch_size,
+                                 sampler_name=sampler_name)
+        stale = fail_stale_trials(disk)
+    ostudy = memory_study(problem, sampler_object)
+    counts = run_trials(ostudy, problem, trials, batch_size, progress=progress, disk=disk)
     counts.failed_stale = stale
     settings = {
         "sampler": sampler_name, "seed": seed, "trials": trials,
         "storage": shown_storage(url), "study_name": problem.study_name,
         "batch_size": batch_size, "population_size": population_size,
     }
-    return build_result(ostudy, problem, top, counts, settings)
+    return build_result(disk if disk is not None else ostudy, problem, top, counts, settings)
 
 
-def load_problem_from_storage(ostudy: optuna.Study, study_file: str | Path | None = None):
+def memory_study(problem: OptunaProblem, sampler) -> optuna.Study:
+    """An in-memory optuna study for ``problem``, all objectives minimised."""
+    optuna.logging.set_verbosity(optuna.logging.WARNING)
+    return optuna.create_study(sampler=sampler, study_name=problem.study_name,
+                               directions=["minimize"] * len(problem.objectives))
+
+
+def load_problem_from_storage(
+    ostudy: optuna.Study, study_file: str | Path | None = None
+) -> OptunaProblem:
     """Rebuild the study, catalogue and problem of an optuna study from its user attrs
     (or from ``study_file``), checking that the catalogue is the one the study used."""
     from optimag.catalog import load_catalog
@@ -895,13 +1168,33 @@ def run_worker(
     workers sharing one seed would propose the same designs.
     """
     optuna.logging.set_verbosity(optuna.logging.WARNING)
-    probe = optuna.load_study(study_name=study_name, storage=storage)
-    attrs = probe.user_attrs
-    problem = load_problem_from_storage(probe, study_file)
+    disk = optuna.load_study(study_name=study_name, storage=storage)
+    attrs = disk.user_attrs
+    problem = load_problem_from_storage(disk, study_file)
     target = int(trials if trials is not None else attrs.get(ATTR_TARGET, 0))
     batch = int(batch_size or attrs.get(ATTR_BATCH, problem.study.search.batch_size))
     sampler_name = attrs.get(ATTR_SAMPLER, problem.study.search.sampler)
-    ostudy = optuna.load_study(
-        study_name=study_name, storage=storage, sampler=make_sampler(sampler_name, seed)
-    )
-    return run_trials(ostudy, problem, target, batch, progress=progress)
+    ostudy = memory_study(problem, make_sampler(sampler_name, seed))
+    return run_trials(ostudy, problem, target, batch, progress=progress, disk=disk)
+
+
+def worker_command(args: argparse.Namespace) -> int:
+    """``optimag worker``: run `run_worker` and say what it did. Exit status 0 when the
+    study holds its target, 2 on bad input."""
+    import sys
+
+    try:
+        counts = run_worker(args.storage, args.study, study_file=args.study_file,
+                            trials=args.trials, batch_size=args.batch_size)
+    except InputError as error:
+        for problem in error.problems:
+            print(str(problem), file=sys.stderr)
+        return 2
+    except KeyError:
+        print(f"no optuna study named '{args.study}' in {shown_storage(args.storage)}",
+              file=sys.stderr)
+        return 2
+    disk = optuna.load_study(study_name=args.study, storage=args.storage)
+    print(f"worker added {counts.told} trials in {counts.wall_time_s:.1f} s; the study "
+          f"'{args.study}' now holds {complete_count(disk)} complete trials")
+    return 0

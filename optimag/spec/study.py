@@ -39,6 +39,7 @@ from pydantic import (
 )
 
 from optimag.errors import InputError, Problem
+from optimag.spec.custom_core import CustomCore
 from optimag.spec.waveform import ccm_ripple_inductance
 
 # Strict numbers: TOML already types its values, so "12" must stay an error rather than
@@ -213,6 +214,7 @@ class Study(_Section):
     catalog: CatalogRef
     model: ModelChoices = ModelChoices()
     cost: Cost = Cost()
+    custom_core: CustomCore | None = None
 
     _path: Path | None = PrivateAttr(default=None)
     _source_text: str = PrivateAttr(default="")
@@ -300,6 +302,7 @@ _SECTION_MODELS: dict[str, type[_Section]] = {
     "catalog": CatalogRef,
     "model": ModelChoices,
     "cost": Cost,
+    "custom_core": CustomCore,
 }
 _REQUIRED_SECTIONS = ("study", "converter", "operating_points", "search", "catalog")
 
@@ -385,7 +388,8 @@ def parse_study(
                 header = f"[[{name}]]" if name == "operating_points" else f"[{name}]"
                 problems.append(problem(name, f"missing section {header}"))
             else:
-                sections[name] = model()
+                # An absent [custom_core] means no custom core, not a default one.
+                sections[name] = None if name == "custom_core" else model()
             continue
         content = document[name]
         if name == "operating_points":
