@@ -52,7 +52,12 @@ def _explore(args) -> int:
     from rich.table import Table
 
     from optimag.catalog import load_catalog
-    from optimag.search.run import check_study_against_catalog, explore, write_run
+    from optimag.search.run import (
+        check_study_against_catalog,
+        default_run_dir,
+        explore,
+        write_run,
+    )
     from optimag.spec import load_study
 
     console = Console(stderr=True)
@@ -64,6 +69,11 @@ def _explore(args) -> int:
         _print_problems(error.problems)
         return 2
     strategy = args.strategy or study.search.strategy
+    out_dir = Path(args.out) if args.out else default_run_dir(study)
+    if strategy == "exhaustive" and getattr(study, "custom_core", None) is not None:
+        print("note: [custom_core] is searched by the optuna strategy only "
+              "(--strategy optuna); the exhaustive search covers the catalogue.",
+              file=sys.stderr)
     if strategy == "optuna":
         try:
             from optimag.search.optuna_search import explore_optuna
@@ -71,7 +81,7 @@ def _explore(args) -> int:
             print("the optuna strategy is not available in this version", file=sys.stderr)
             return 2
         result = explore_optuna(study, catalog, trials=args.trials, seed=args.seed,
-                                top=args.top, storage=args.storage, run_dir=args.out)
+                                top=args.top, storage=args.storage, run_dir=out_dir)
     else:
         started = time.perf_counter()
         with Progress(
@@ -88,7 +98,7 @@ def _explore(args) -> int:
                                 rate=f"{done / elapsed:,.0f}/s")
 
             result = explore(study, catalog, top=args.top, progress=report)
-    run_dir = write_run(result, Path(args.out) if args.out else None)
+    run_dir = write_run(result, out_dir)
     _write_report(run_dir, console)
     counts = result.record["counts"]
     out = Console() if sys.stdout.isatty() else Console(width=160)
