@@ -694,6 +694,18 @@ def near_miss_table(run: RunData) -> pd.DataFrame:
     )
 
 
+def custom_comparison_table(run: RunData) -> pd.DataFrame:
+    """Catalogue designs on the volume-loss front against the smallest custom-core design
+    with the same or lower loss (optuna runs with a custom core); empty otherwise."""
+    columns = [
+        "catalogue_core", "loss_W", "catalogue_volume_cm3", "custom_core",
+        "custom_volume_cm3", "volume_ratio",
+    ]
+    comparison = run.meta.get("custom_vs_catalogue") or {}
+    rows = comparison.get("rows") or []
+    return pd.DataFrame([{c: row.get(c) for c in columns} for row in rows], columns=columns)
+
+
 def header_facts(run: RunData) -> list[tuple[str, str]]:
     """Label/value pairs for the page header (strings, not yet escaped)."""
     meta = run.meta

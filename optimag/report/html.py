@@ -15,6 +15,7 @@ from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 
+import pandas as pd
 import plotly.graph_objects as go
 
 from optimag.report import data, figures, style
@@ -212,13 +213,40 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
                 "Drag to turn the view; hover a point for its figures.",
             )
         )
-    body = f'<div class="grid">{"".join(cards)}</div>'
+    body = f'<div class="grid">{"".join(cards)}</div>' + _custom_comparison(run)
     lede = (
         f"Each point is a design no other design beats on every objective at once "
         f"({', '.join(run.objectives)}). Colour shows the core material, marker shape the "
         "core family; the ringed point is the knee, the most balanced compromise."
     )
     return _section(1, "tradeoff", "Trade-off map", lede, body)
+
+
+def _number(value: Any, fmt: str) -> str:
+    return "—" if value is None or pd.isna(value) else format(float(value), fmt)
+
+
+def _custom_comparison(run: data.RunData) -> str:
+    table = data.custom_comparison_table(run)
+    if table.empty:
+        return ""
+    median = (run.meta.get("custom_vs_catalogue") or {}).get("median_volume_ratio")
+    note = (
+        "Volume ratio = catalogue volume / custom volume at the same or lower loss; "
+        + (f"median {float(median):.2f}." if median is not None else "no ratio available.")
+    )
+    inner = _table(
+        ["Catalogue core", "Loss [W]", "Catalogue volume [cm³]", "Custom core",
+         "Custom volume [cm³]", "Volume ratio"],
+        (
+            [r.catalogue_core, _number(r.loss_W, ".3f"),
+             _number(r.catalogue_volume_cm3, ".2f"), r.custom_core or "—",
+             _number(r.custom_volume_cm3, ".2f"), _number(r.volume_ratio, ".2f")]
+            for r in table.itertuples(index=False)
+        ),
+        [False, True, True, False, True, True],
+    )
+    return _card("What a custom core would save", inner, note, spaced=True)
 
 
 def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:

@@ -276,3 +276,32 @@ def test_limits_not_set_and_interrupted_runs(run_dir: Path) -> None:
 def test_elimination_table_in_page(page: str) -> None:
     rows = re.findall(r"<tr><td><code>([a-z_]+)</code>", page)
     assert rows[0] == "inductance" and len(rows) == 8
+
+
+def test_custom_core_comparison_is_rendered_when_present(run_dir):
+    """An optuna run with custom cores records, per catalogue front design, the smallest
+    custom design at equal or lower loss; the report shows it as a table."""
+    import json
+
+    from optimag.report import data
+    from optimag.report.html import render_report
+
+    folder = run_dir
+    meta_path = folder / "run.json"
+    meta = json.loads(meta_path.read_text())
+    meta["custom_vs_catalogue"] = {
+        "rows": [
+            {"catalogue_core": "E-20", "loss_W": 1.2, "catalogue_volume_cm3": 9.0,
+             "custom_core": "custom-E-7", "custom_volume_cm3": 6.0, "volume_ratio": 1.5},
+            {"catalogue_core": "E-25", "loss_W": 0.8, "catalogue_volume_cm3": 14.0,
+             "custom_core": None, "custom_volume_cm3": None, "volume_ratio": None},
+        ],
+        "median_volume_ratio": 1.5,
+    }
+    meta_path.write_text(json.dumps(meta))
+    run = data.load_run(folder)
+    table = data.custom_comparison_table(run)
+    assert list(table["volume_ratio"].iloc[:1]) == [1.5]
+    page = render_report(run)
+    assert "What a custom core would save" in page
+    assert "custom-E-7" in page and "median 1.50" in page
