@@ -963,7 +963,15 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
 
     crop = harvest(ostudy, problem)
     table = crop.table
-    feasible_rows = np.flatnonzero(crop.feasible)
+    # A design told more than once (trials that decoded to the same design when no unseen
+    # neighbour was left) enters the front once.
+    first_of_design = np.zeros(len(table), dtype=bool)
+    if len(table):
+        _, first = np.unique(
+            np.array(problem.design_keys(table), dtype=np.int64), axis=0, return_index=True
+        )
+        first_of_design[first] = True
+    feasible_rows = np.flatnonzero(crop.feasible & first_of_design)
     combined = _front(crop.objectives, feasible_rows)
     custom_front = catalogue_front = np.empty(0, dtype=np.int64)
     if problem.custom is not None:
@@ -994,7 +1002,7 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
         near_candidates = candidates.take(np.array([position[int(r)] for r in near]))
         near_violation = crop.violations[near].max(axis=1)
     outcome = ExhaustiveOutcome(
-        front=front, total=len(table), feasible=int(feasible_rows.size),
+        front=front, total=len(table), feasible=int(np.count_nonzero(crop.feasible)),
         eliminated=eliminated, near_misses=near_candidates,
         near_miss_violation=near_violation, wall_time_s=counts.wall_time_s,
         interrupted=counts.interrupted, stage_sizes={},

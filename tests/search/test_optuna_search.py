@@ -329,3 +329,10 @@ def test_position_pick_lands_on_admissible_column(admissible, position):
         assert 0 <= column < admissible.shape[1]
         if admissible[row].any():
             assert admissible[row, column]
+
+
+def test_front_lists_each_design_once(tiny_study_path):
+    """More trials than the tiny space has good designs: repeats must not fill the front."""
+    result = osearch.explore_optuna(tiny_study_path, trials=1500, seed=5)
+    keys = result.pareto[["core", "stack", "material", "turns", "gap_mm", "wire", "parallel"]]
+    assert not keys.duplicated().any()
