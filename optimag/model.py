@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import functools
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -260,7 +260,6 @@ class OperatingArrays:
     dc_A: np.ndarray  # (K,)
     ripple_A: np.ndarray  # (K,) peak to peak
     harmonics_A: np.ndarray  # (K, H)
-    ripple_waveforms: tuple = field(default=(), repr=False)
 
     @classmethod
     def from_waveforms(cls, waveforms) -> OperatingArrays:
@@ -274,7 +273,6 @@ class OperatingArrays:
             dc_A=np.array([w.dc_A for w in waveforms], dtype=float),
             ripple_A=np.array([w.ripple_pp_A for w in waveforms], dtype=float),
             harmonics_A=np.stack([np.asarray(w.harmonics_A, dtype=float) for w in waveforms]),
-            ripple_waveforms=tuple(waveforms),
         )
 
     @property
@@ -817,11 +815,10 @@ def combine_stage(
         "point_loss_W": point_loss,
         "core_loss_temperature_factor": ct,
         "total_loss_W": weighted_loss,
-        "worst_temperature_C": np.where(any_runaway, np.inf, worst_t),
+        "worst_temperature_C": np.where(any_runaway, thermal.RUNAWAY_TEMPERATURE_C, worst_t),
         "volume_cm3": wdg["volume_m3"] * 1e6,
         "mass_g": mass * 1e3,
         "cost": cost,
-        "violation_thermal_runaway": np.where(any_runaway, 1.0, -1.0),
         "violation_temperature": np.where(
             any_runaway, 1.0, (worst_t - req.max_temperature_C) / temperature_span
         ),
