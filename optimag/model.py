@@ -385,6 +385,19 @@ def gap_allowed(space: DesignSpace, core: np.ndarray, material: np.ndarray) -> n
     return (space.materials.kind[material] == 0) & (space.cores.family[core] != 2)
 
 
+def gapped_leg_sides(
+    space: DesignSpace, core: np.ndarray, stack: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """Width and depth [m] of the gapped leg as a rectangle: a round pot-core post becomes
+    the square of equal area, which is how the rectangular-leg fringing model applies."""
+    c = space.cores
+    round_post = c.family[core] == 1
+    side = c.leg_width_m[core] * (np.sqrt(np.pi) / 2.0)
+    width = np.where(round_post, side, c.leg_width_m[core])
+    depth = np.where(round_post, side, c.leg_depth_m[core] * np.asarray(stack, dtype=float))
+    return width, depth
+
+
 @_quiet
 def magnetic_stage(
     space: DesignSpace,
@@ -408,8 +421,7 @@ def magnetic_stage(
     amin = c.amin_m2[core] * stack_f
     le = c.le_m[core]
     ve = c.ve_m3[core] * stack_f
-    leg_w = c.leg_width_m[core]
-    leg_d = c.leg_depth_m[core] * stack_f
+    leg_w, leg_d = gapped_leg_sides(space, core, stack)
     breadth = c.breadth_m[core]
     mu_i = m.mu_i[material]
     powder = m.kind[material] == 1
@@ -428,7 +440,7 @@ def magnetic_stage(
     gap = np.where(unreachable, 0.0, gap)
 
     r_core = magnetic.core_reluctance(le, ae, mu_i)
-    r_gap = _gap_reluctance(req.fringing, gap, ae, leg_w, leg_d, breadth)
+    r_gap = magnetic.gap_reluctance(gap, ae, breadth, leg_w, leg_d, model=req.fringing)
     # Powder: mu_i is the initial permeability; its roll-off starts from 1/a at H = 0.
     powder_l0 = magnetic.powder_inductance(
         n_turns, 0.0, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
@@ -522,14 +534,6 @@ def magnetic_stage(
         "violation_saturation": saturation_violation,
         "violation_inductance_at_peak": peak_violation,
     }
-
-
-def _gap_reluctance(fringing, gap, ae, leg_w, leg_d, breadth):
-    if fringing == "ideal":
-        return magnetic.gap_reluctance_ideal(gap, ae)
-    if fringing == "muhlethaler":
-        return magnetic.gap_reluctance_muhlethaler(gap, leg_w, leg_d, breadth)
-    return magnetic.gap_reluctance_mclyman(gap, ae, breadth)
 
 
 # ---------------------------------------------------------------------------------------

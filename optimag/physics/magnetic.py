@@ -33,6 +33,7 @@ __all__ = [
     "flux_density",
     "fringing_factor_mclyman",
     "gap_for_inductance",
+    "gap_reluctance",
     "gap_reluctance_ideal",
     "gap_reluctance_mclyman",
     "gap_reluctance_muhlethaler",
@@ -413,6 +414,57 @@ GAP_RELUCTANCE_MODELS: dict[str, GapModel] = {
 
 _NEWTON_MAX_STEPS = 60
 _RELATIVE_TOLERANCE = 1e-12
+
+
+def gap_reluctance(
+    gap_m: npt.ArrayLike,
+    ae_m2: npt.ArrayLike,
+    winding_length_m: npt.ArrayLike,
+    leg_width_m: npt.ArrayLike,
+    leg_depth_m: npt.ArrayLike,
+    model: str = "mclyman",
+) -> FloatArray:
+    """Gap reluctance by the model named in `GAP_RELUCTANCE_MODELS`.
+
+    Parameters
+    ----------
+    gap_m : array_like
+        Air-gap length, >= 0 [m]
+    ae_m2 : array_like
+        Core cross-sectional area at the gap [m^2]
+    winding_length_m : array_like
+        Winding length G along the gapped leg [m]
+    leg_width_m : array_like
+        Gapped-leg width [m]
+    leg_depth_m : array_like
+        Gapped-leg depth [m]
+    model : str
+        "ideal", "mclyman" or "muhlethaler" [-]
+
+    Returns
+    -------
+    reluctance : ndarray
+        Gap reluctance [A/Wb]
+
+    Notes
+    -----
+    Dispatches to the same registry entry that `gap_for_inductance` inverts, so a gap
+    solved with one model gives back its inductance with the same model; no range warning
+    (the named functions `gap_reluctance_ideal`, `gap_reluctance_mclyman` and
+    `gap_reluctance_muhlethaler` warn).
+
+    References
+    ----------
+    As for the named functions.
+    """
+    geometry = GapGeometry(
+        np.asarray(ae_m2, dtype=float), np.asarray(winding_length_m, dtype=float),
+        np.asarray(leg_width_m, dtype=float), np.asarray(leg_depth_m, dtype=float),
+    )
+    reluctance, _ = GAP_RELUCTANCE_MODELS[model].reluctance_and_slope(
+        np.asarray(gap_m, dtype=float), geometry
+    )
+    return reluctance
 
 
 def gap_for_inductance(

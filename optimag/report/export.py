@@ -115,27 +115,16 @@ def inductance_curve(
         current_at_bsat = bsat * turns * amin / l0
         gap = metrics["gap_m"][i]
         req = space.requirements
-        r_gap = _gap_reluctance(space, req.fringing, gap, core, stack)
+        leg_w, leg_d = model.gapped_leg_sides(space, np.array([core]), np.array([stack]))
+        r_gap = magnetic.gap_reluctance(
+            gap, ae, c.breadth_m[core], leg_w[0], leg_d[0], model=req.fringing
+        )
         l_saturated = magnetic.inductance(turns, magnetic.core_reluctance(le, ae, 1.0) + r_gap)
         values = np.where(currents <= current_at_bsat, l0, l_saturated)
     return {
         "current_A": [_r(v) for v in currents],
         "inductance_uH": [_r(v * 1e6) for v in np.broadcast_to(values, currents.shape)],
     }
-
-
-def _gap_reluctance(space, fringing, gap, core, stack):
-    c = space.cores
-    ae = c.ae_m2[core] * stack
-    if gap <= 0:
-        return 0.0
-    if fringing == "ideal":
-        return magnetic.gap_reluctance_ideal(gap, ae)
-    if fringing == "muhlethaler":
-        return magnetic.gap_reluctance_muhlethaler(
-            gap, c.leg_width_m[core], c.leg_depth_m[core] * stack, c.breadth_m[core]
-        )
-    return magnetic.gap_reluctance_mclyman(gap, ae, c.breadth_m[core])
 
 
 def design_records(

@@ -321,3 +321,18 @@ def test_bsat_at_temperature_array_linear_and_floored():
 def test_bsat_at_temperature_warns_beyond_150C():
     with pytest.warns(ValidityRangeWarning):
         mag.bsat_at_temperature(np.array([100.0, 160.0]), 0.49, 0.39)
+
+
+@pytest.mark.parametrize("name", ["ideal", "mclyman", "muhlethaler"])
+def test_gap_reluctance_dispatch_equals_named_functions(name):
+    """Two routes to one number: the registry dispatch and the named model function."""
+    gap = np.array([0.05e-3, 0.3e-3, 1.0e-3])
+    ae, breadth, w, d = 1e-4, 20e-3, 10e-3, 10e-3
+    named = {
+        "ideal": lambda: mag.gap_reluctance_ideal(gap, ae),
+        "mclyman": lambda: mag.gap_reluctance_mclyman(gap, ae, breadth),
+        "muhlethaler": lambda: mag.gap_reluctance_muhlethaler(gap, w, d, breadth),
+    }[name]()
+    np.testing.assert_allclose(
+        mag.gap_reluctance(gap, ae, breadth, w, d, model=name), named, rtol=1e-12
+    )
