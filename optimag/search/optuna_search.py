@@ -631,9 +631,45 @@ def make_sampler(name: str, seed: int | None, population_size: int = DEFAULT_POP
             from optuna.samplers.nsgaii import PolynomialMutation
 
             kwargs["mutation"] = PolynomialMutation()
-        return optuna.samplers.NSGAIISampler(
+        return BatchFriendlyNSGAIISampler(
             seed=seed, population_size=population_size, mutation_prob=mutation_prob, **kwargs
         )
+
+
+class BatchFriendlyNSGAIISampler(optuna.samplers.NSGAIISampler):
+    """NSGA-II whose generation bookkeeping is done once per set of complete trials.
+
+    optuna's genetic-algorithm base works out a new trial's generation by scanning every
+    complete trial, at every ask. While a batch is being asked no trial completes, so the
+    scan gives the same answer for the whole batch; it is cached on the number of complete
+    trials (which only grows). Generations, and so the trials a seed produces, are exactly
+    those of the base class.
+    """
+
+    _generation_cache: tuple[tuple[int, int], int, int] | None = None
+
+    def get_trial_generation(self, study: optuna.Study, trial) -> int:
+        key = self._get_generation_key()
+        generation = trial.system_attrs.get(key, None)
+        if generation is not None:
+            return generation
+        complete = study._get_trials(deepcopy=False, states=[TrialState.COMPLETE],
+                                     use_cache=True)
+        token = (study._study_id, len(complete))
+        cache = self._generation_cache
+        if cache is None or cache[0] != token:
+            max_generation, max_count = 0, 0
+            for past in complete:
+                past_generation = past.system_attrs.get(key, -1)
+                if past_generation > max_generation:
+                    max_generation, max_count = past_generation, 1
+                elif past_generation == max_generation:
+                    max_count += 1
+            cache = self._generation_cache = (token, max_generation, max_count)
+        _, max_generation, max_count = cache
+        generation = max_generation if max_count < self._population_size else max_generation + 1
+        study._storage.set_trial_system_attr(trial._trial_id, key, generation)
+        return generation
 
 
 def storage_url_for(run_dir: str | Path | None, storage: str | None) -> str | None:

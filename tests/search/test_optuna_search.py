@@ -336,3 +336,31 @@ def test_front_lists_each_design_once(tiny_study_path):
     result = osearch.explore_optuna(tiny_study_path, trials=1500, seed=5)
     keys = result.pareto[["core", "stack", "material", "turns", "gap_mm", "wire", "parallel"]]
     assert not keys.duplicated().any()
+
+
+def test_batch_friendly_sampler_reproduces_optunas_nsga2(tiny_study_path):
+    """The generation cache changes speed only: the same seed gives the same trials as
+    optuna's own NSGA-II sampler over several generations."""
+    import inspect
+    import warnings
+
+    import optuna
+
+    kwargs = {}
+    if "mutation" in inspect.signature(optuna.samplers.NSGAIISampler).parameters:
+        from optuna.samplers.nsgaii import PolynomialMutation
+
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
+            kwargs["mutation"] = PolynomialMutation()
+    runs = []
+    for sampler in (
+        osearch.make_sampler("nsga2", 11, population_size=20),
+        optuna.samplers.NSGAIISampler(seed=11, population_size=20, **kwargs),
+    ):
+        problem = _problem(tiny_study_path)  # a fresh problem: it caches what it has seen
+        ostudy = osearch.memory_study(problem, sampler)
+        osearch.run_trials(ostudy, problem, 160, 16)
+        runs.append([t.params for t in ostudy.trials])
+    assert isinstance(osearch.make_sampler("nsga2", 0), osearch.BatchFriendlyNSGAIISampler)
+    assert runs[0] == runs[1]
