@@ -347,6 +347,13 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> 
         f'<div class="grid">{parts}<div class="stack">{drawing}{headroom}</div>'
         f"{losses_panel}{inductance_panel}</div>"
     )
+    notes = record.get("model_notes") or []
+    if notes:
+        items = "".join(f"<li>{escape(note)}</li>" for note in notes)
+        layout += (
+            '<div class="alert"><b>Where these figures lean on a model outside its range:'
+            f"</b><ul>{items}</ul></div>"
+        )
 
     knee = bool(record.get("knee"))
     badges = f'<span class="badge">rank {int(record["rank"])}</span>'

@@ -305,3 +305,19 @@ def test_custom_core_comparison_is_rendered_when_present(run_dir):
     page = render_report(run)
     assert "What a custom core would save" in page
     assert "custom-E-7" in page and "median 1.50" in page
+
+
+def test_model_range_notes_appear_escaped_on_the_build_sheet(run_dir):
+    """A record's model notes (model used outside its stated range) are shown as text."""
+    import json
+
+    from optimag.report import data
+    from optimag.report.html import render_report
+
+    path = run_dir / "shortlist.json"
+    content = json.loads(path.read_text())
+    content["designs"][0]["model_notes"] = ["core loss: fit holds to 0.3 T <b>only</b>"]
+    path.write_text(json.dumps(content))
+    page = render_report(data.load_run(run_dir))
+    assert "outside its range" in page
+    assert "fit holds to 0.3 T &lt;b&gt;only&lt;/b&gt;" in page
