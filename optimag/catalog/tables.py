@@ -141,6 +141,12 @@ class Table:
         return tuple(column.name for column in self.columns)
 
 
+#: Largest positive figure a catalogue cell may hold. A magnetic part larger than a
+#: kilometre (1e6 mm, 1e12 mm^2, 1e18 mm^3) is a typing error, and such values would
+#: overflow the consistency checks (common practice, no source).
+PLAUSIBLE_UPPER = 1e18
+
+
 def _positive(
     name: str,
     description: str,
@@ -148,7 +154,8 @@ def _positive(
     allowed_for: frozenset[str] | None = None,
 ) -> Column:
     return Column(
-        name, "float", description, lower=0.0, required_for=required_for, allowed_for=allowed_for
+        name, "float", description, lower=0.0, upper=PLAUSIBLE_UPPER, upper_inclusive=True,
+        required_for=required_for, allowed_for=allowed_for,
     )
 
 
