@@ -741,14 +741,14 @@ def loss_quadratic(space: DesignSpace, material: np.ndarray, mag: dict, wdg: dic
 @_quiet
 def certainly_too_hot(
     space: DesignSpace, material: np.ndarray, stack: np.ndarray, core: np.ndarray,
-    mag: dict, wdg: dict,
+    mag: dict, wdg: dict, loss_coefficients: tuple | None = None,
 ) -> np.ndarray:
     """True where a candidate cannot settle at or below the temperature limit at some
     operating point: its smallest loss between ambient and the limit already exceeds the
     heat it could shed at the limit (heat shed grows with temperature). Exact screen, no
     feasible candidate is ever flagged."""
     req = space.requirements
-    a0, a1, a2 = loss_quadratic(space, material, mag, wdg)
+    a0, a1, a2 = loss_coefficients or loss_quadratic(space, material, mag, wdg)
     t_a, t_max = req.ambient_C, req.max_temperature_C
     with np.errstate(divide="ignore", invalid="ignore"):
         vertex = np.clip(np.where(a2 > 0, -a1 / (2 * a2), t_a), t_a, t_max)
@@ -772,6 +772,7 @@ def combine_stage(
     turns: np.ndarray,
     mag: dict[str, np.ndarray],
     wdg: dict[str, np.ndarray],
+    loss_coefficients: tuple | None = None,
 ) -> dict[str, np.ndarray]:
     """Loss-temperature fixed point at every operating point, objectives and the final
     constraints, for candidates whose stage outputs ``mag`` and ``wdg`` are row-aligned."""
@@ -779,7 +780,7 @@ def combine_stage(
     req, op = space.requirements, space.operating
     t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
     core_ref = mag["core_loss_reference_W"]
-    a0, a1, a2 = loss_quadratic(space, material, mag, wdg)
+    a0, a1, a2 = loss_coefficients or loss_quadratic(space, material, mag, wdg)
     surface = wdg["surface_m2"][:, None]
     height = wdg["box_height_m"][:, None]
     ve = (c.ve_m3[core] * stack.astype(float))[:, None]

@@ -13,6 +13,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
@@ -22,7 +23,7 @@ import numpy as np
 from optimag import model
 from optimag.search.pareto import RunningFront
 
-CANDIDATE_FIELDS = ("core", "stack", "material", "turns", "gap_option", "wire", "parallel")
+CANDIDATE_FIELDS = tuple(f.name for f in dataclasses.fields(model.Candidates))
 
 #: Joined candidates per chunk of the final stage (bounds peak memory).
 DEFAULT_CHUNK = 200_000
@@ -267,8 +268,10 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
     n_all = len(candidates)
     # Exact screen: parts that cannot settle below the temperature limit skip the fixed
     # point; they are counted under "temperature", where the full model puts them too.
+    coefficients = model.loss_quadratic(space, candidates.material, mag_part, wdg_part)
     too_hot = model.certainly_too_hot(
-        space, candidates.material, candidates.stack, candidates.core, mag_part, wdg_part
+        space, candidates.material, candidates.stack, candidates.core, mag_part, wdg_part,
+        coefficients,
     )
     eliminated["temperature"] += int(np.count_nonzero(too_hot))
     keep = np.flatnonzero(~too_hot)
@@ -276,9 +279,10 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
         candidates = candidates.take(keep)
         mag_part = {k: v[keep] for k, v in mag_part.items()}
         wdg_part = {k: v[keep] for k, v in wdg_part.items()}
+        coefficients = tuple(a[keep] for a in coefficients)
     final = model.combine_stage(
         space, candidates.material, candidates.stack, candidates.core, candidates.turns,
-        mag_part, wdg_part,
+        mag_part, wdg_part, coefficients,
     )
     metrics = {**mag_part, **wdg_part, **final}
     violations = model.violations_matrix(metrics)

@@ -240,37 +240,11 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
     }
 
 
+#: Flat (non-nested) record fields, as the writer's short-list schema lists them.
 FLAT_FIELDS = [
-    "design_id",
-    "rank",
-    "knee",
-    "core",
-    "family",
-    "material",
-    "material_kind",
-    "stack",
-    "turns",
-    "gap_mm",
-    "wire",
-    "wire_kind",
-    "parallel",
-    "layers",
-    "fill_factor",
-    "inductance_uH",
-    "inductance_at_peak_uH",
-    "peak_current_A",
-    "peak_flux_T",
-    "flux_swing_T",
-    "core_loss_W",
-    "winding_dc_loss_W",
-    "winding_ac_loss_W",
-    "total_loss_W",
-    "temperature_C",
-    "volume_cm3",
-    "mass_g",
-    "cost",
-    "operating_point",
-    "dcm",
+    f for f in export.SHORTLIST_RECORD_FIELDS
+    if f not in {"per_operating_point", "inputs", "margins", "inductance_curve", "winding",
+                 "box_mm"}
 ]
 PARETO_FIELDS = list(export.PARETO_COLUMNS)
 
