@@ -89,7 +89,7 @@ def test_loading_is_fast() -> None:
 # --- wires ---------------------------------------------------------------------------
 
 
-# ASTM B258, d = 0.127 mm·92^((36−n)/39); values from check-values.md (rel 1e-5). The demo
+# ASTM B258, d = 0.127 mm·92^((36−n)/39), evaluated to 5 decimals (rel 1e-5). The demo
 # rounds to 0.0001 mm, so the tolerance is that rounding step.
 @pytest.mark.parametrize(
     ("gauge", "diameter_mm"),
@@ -142,7 +142,7 @@ def test_wire_price_rises_for_finer_gauges(demo) -> None:
 
 
 def steinmetz_w_m3(material, frequency_hz: float, peak_t: float) -> float:
-    # Steinmetz equation P_v = k f^alpha B^beta (check-values.md, core-loss section).
+    # Steinmetz equation P_v = k f^alpha B^beta (Steinmetz, Trans. AIEE 1892).
     return (
         material["steinmetz_k"]
         * frequency_hz ** material["steinmetz_alpha"]
@@ -152,7 +152,7 @@ def steinmetz_w_m3(material, frequency_hz: float, peak_t: float) -> float:
 
 def test_ferrite_saturation_ranges(demo) -> None:
     # MnZn power ferrite Bsat 0.47-0.53 T at 25 °C, 0.38-0.42 T at 100 °C:
-    # check-values.md, materials section (common practice, no source).
+    # (common practice, no source).
     ferrites = demo.materials[demo.materials["kind"] == "ferrite"]
     assert ferrites["bsat_25C_T"].between(0.47, 0.53).all()
     assert ferrites["bsat_100C_T"].between(0.38, 0.42).all()
@@ -160,7 +160,7 @@ def test_ferrite_saturation_ranges(demo) -> None:
 
 def test_powder_saturation_and_permeabilities(demo) -> None:
     # Powder cores 0.75-1.4 T (Mo-permalloy ~0.75 T up to iron powder ~1.4 T):
-    # check-values.md, materials section (common practice, no source).
+    # (common practice, no source).
     powders = demo.materials[demo.materials["kind"] == "powder"]
     assert powders["bsat_25C_T"].between(0.75, 1.4).all()
     assert sorted(powders["mu_i"]) == [26, 60, 125]

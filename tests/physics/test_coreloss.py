@@ -12,14 +12,14 @@ from scipy.integrate import quad
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import coreloss as cl
 
-# Steinmetz set used by check-values.md.
+# Steinmetz set used by check_values.md.
 K, ALPHA, BETA = 1.5, 1.4, 2.5
 F = 100e3
 
 
 def test_cos_power_integral_matches_quadrature():
     # Independent numerical solution: quad of |cos t|^alpha over one period;
-    # check-values.md: alpha = 1.4 -> 3.5820875 (rel 1e-6).
+    # check_values.md: alpha = 1.4 -> 3.5820875 (rel 1e-6).
     alphas = np.array([1.0, 1.4, 2.0, 2.7])
     closed = cl._cos_power_integral(alphas)
     for alpha, value in zip(alphas, closed, strict=True):
@@ -35,7 +35,7 @@ def test_cos_power_integral_matches_quadrature():
 
 
 def test_igse_coefficient_scalar_check_value():
-    # Venkatachalam, Sullivan, Abdallah, Tacca, COMPEL 2002; check-values.md k_i = 0.0936591.
+    # Venkatachalam, Sullivan, Abdallah, Tacca, COMPEL 2002; check_values.md k_i = 0.0936591.
     assert cl.igse_coefficient(K, ALPHA, BETA) == pytest.approx(0.0936591, rel=1e-6)
 
 
@@ -47,7 +47,7 @@ def test_igse_coefficient_array_is_linear_in_k():
 
 
 def test_steinmetz_scalar_check_value():
-    # check-values.md: f = 100 kHz, B = 0.1 T -> 47434.165 W/m^3 (rel 1e-6).
+    # check_values.md: f = 100 kHz, B = 0.1 T -> 47434.165 W/m^3 (rel 1e-6).
     assert cl.steinmetz_loss_density(F, 0.1, K, ALPHA, BETA) == pytest.approx(47434.165, rel=1e-6)
 
 
@@ -70,7 +70,7 @@ def test_igse_of_sampled_sine_equals_steinmetz():
 
 @pytest.mark.parametrize(("rise", "expected"), [(0.5, 44214.743), (0.2, 50212.770)])
 def test_igse_triangle_check_values(rise, expected):
-    # check-values.md, iGSE triangle with dB = 0.2 T at 100 kHz (rel 1e-6).
+    # check_values.md, iGSE triangle with dB = 0.2 T at 100 kHz (rel 1e-6).
     assert cl.igse_loss_density_triangle(F, 0.2, rise, K, ALPHA, BETA) == pytest.approx(
         expected, rel=1e-6
     )

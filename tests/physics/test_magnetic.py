@@ -52,7 +52,7 @@ def test_gap_reluctance_ideal_scalar_and_array():
 
 def test_mclyman_fringing_factor_check_value():
     # McLyman, Transformer and Inductor Design Handbook (formula from memory);
-    # check-values.md: lg = 0.1 cm, Ac = 1 cm^2, G = 2 cm -> 1.368888, rel 1e-6.
+    # check_values.md: lg = 0.1 cm, Ac = 1 cm^2, G = 2 cm -> 1.368888, rel 1e-6.
     assert mag.fringing_factor_mclyman(1e-3, 1e-4, 2e-2) == pytest.approx(1.368888, rel=1e-6)
 
 
@@ -85,7 +85,7 @@ def test_gap_reluctance_mclyman_is_ideal_over_factor():
 
 
 def test_muhlethaler_basic_permeance_check_value():
-    # Muehlethaler, Kolar, Ecklebe, ICPE 2011, basic 2-D reluctance; check-values.md:
+    # Muehlethaler, Kolar, Ecklebe, ICPE 2011, basic 2-D reluctance; check_values.md:
     # w = 10, l = 1, h = 10 -> P'/mu0 = 6.94871 (rel 1e-6). The basic element has
     # l = lg/2 and h = G/2, so lg = 2, G = 20. A very deep leg isolates the per-depth
     # 2-D permeance: R d -> lg / (mu0 (w + delta)) with delta/d < 1e-8.

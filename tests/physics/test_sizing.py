@@ -14,7 +14,7 @@ CM5 = 1e-10  # m^5 per cm^5
 
 def test_area_product_required_check_value():
     # McLyman, Transformer and Inductor Design Handbook (equation from memory);
-    # check-values.md: L = 100 uH, I = 10 A, Bm = 0.3 T, J = 400 A/cm^2, Ku = 0.4
+    # check_values.md: L = 100 uH, I = 10 A, Bm = 0.3 T, J = 400 A/cm^2, Ku = 0.4
     # -> 2.08333 cm^4 (rel 1e-5 at the printed digits).
     ap = sz.area_product_required(100e-6, 10.0, 10.0, 0.3, 400e4, 0.4)
     assert ap / CM4 == pytest.approx(2.08333, rel=1e-5)
@@ -40,7 +40,7 @@ def test_area_product_scalar_and_array():
 
 def test_geometry_coefficient_required_check_value():
     # Erickson & Maksimović, Fundamentals of Power Electronics, inductor-design chapter;
-    # check-values.md: rho = 1.724e-6 Ohm cm, L = 100 uH, I = 10 A, B = 0.3 T,
+    # check_values.md: rho = 1.724e-6 Ohm cm, L = 100 uH, I = 10 A, B = 0.3 T,
     # R = 10 mOhm, Ku = 0.5 -> 0.383111 cm^5 (rel 1e-6).
     kg = sz.geometry_coefficient_required(100e-6, 10.0, 10e-3, 0.3, 0.5, resistivity_ohm_m=1.724e-8)
     assert kg / CM5 == pytest.approx(0.383111, rel=1e-6)

@@ -1,6 +1,6 @@
 """Tests of optimag.physics.thermal against handbook laws and independent solutions.
 
-Reference values and tolerances: /work/shared/check-values.md, section "Thermal".
+Reference values and tolerances: tests/data/check_values.md, section "Thermal".
 """
 
 import math

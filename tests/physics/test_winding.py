@@ -1,6 +1,6 @@
 """Tests of optimag.physics.winding against standards, papers and independent solutions.
 
-Reference values and tolerances: /work/shared/check-values.md (section "Conductors" and
+Reference values and tolerances: tests/data/check_values.md (section "Conductors" and
 "Winding AC resistance").
 """
 
@@ -34,7 +34,7 @@ def test_copper_resistivity_warns_outside_linear_range():
 
 
 def test_awg_diameter_astm_b258_formula():
-    # ASTM B258 formula values, check-values.md. They are printed to 0.00001 mm, so the
+    # ASTM B258 formula values, check_values.md. They are printed to 0.00001 mm, so the
     # tolerance is half that digit (rel 1e-5 as listed is tighter than the rounding of
     # 0.07987 mm for AWG 40).
     gauges = np.array([10, 20, 24, 30, 36, 40])
@@ -56,7 +56,7 @@ def test_awg_diameter_warns_outside_table():
 
 
 def test_skin_depth_check_values():
-    # delta = sqrt(rho / (pi f mu0)); check-values.md (rel 1e-4).
+    # delta = sqrt(rho / (pi f mu0)); check_values.md (rel 1e-4).
     frequency = np.array([10e3, 100e3, 1e6])
     at_20 = w.skin_depth(frequency, w.copper_resistivity(20.0)) * 1e3
     at_100 = w.skin_depth(frequency, w.copper_resistivity(100.0)) * 1e3
@@ -82,7 +82,7 @@ def test_skin_depth_at_dc_is_infinite_and_ac_factor_is_one():
 # --------------------------------------------------------------------------- Dowell
 
 DOWELL_TABLE = {
-    # Delta: (m=1, m=2, m=5); check-values.md, Dowell Proc. IEE 1966 (M + N), rel 1e-6.
+    # Delta: (m=1, m=2, m=5); check_values.md, Dowell Proc. IEE 1966 (M + N), rel 1e-6.
     0.5: (1.005542, 1.026323, 1.171788),
     1.0: (1.085636, 1.406009, 3.648623),
     2.0: (1.897806, 5.146489, 27.88727),
@@ -135,7 +135,7 @@ def test_dowell_against_independent_diffusion_solution(delta, layers):
 
 
 def test_dowell_low_frequency_series():
-    # Series F_R = 1 + (5m^2 - 1) Delta^4 / 45 + O(Delta^8), check-values.md: within 0.04 %
+    # Series F_R = 1 + (5m^2 - 1) Delta^4 / 45 + O(Delta^8), check_values.md: within 0.04 %
     # at Delta = 0.5 for the tabulated m <= 5; its leading term fixes F_R - 1 to rel 1e-3
     # for Delta <= 0.2 (the Delta^8 term is below 1e-3 of it there, for any m).
     layers = np.array([1.0, 2.0, 5.0])
@@ -242,7 +242,7 @@ def test_foil_ac_factor_one_skin_depth_thick():
 
 def test_litz_factor_check_value():
     # Sullivan, IEEE TPEL 14(2) 1999: n=50, N=10, d_c=0.1 mm, b_c=10 mm, 100 kHz, 20 degC
-    # -> 1.067377 (check-values.md, rel 1e-6).
+    # -> 1.067377 (check_values.md, rel 1e-6).
     delta = w.skin_depth(100e3, w.copper_resistivity(20.0))
     assert w.litz_factor(50, 10, 0.1e-3, 10e-3, delta) == pytest.approx(1.067377, rel=1e-6)
     factors = w.litz_factor(np.array([50, 100]), 10, 0.1e-3, 10e-3, delta)
@@ -410,7 +410,7 @@ def _triangle_harmonics(ripple_pp: float, duty: float, samples: int = 4096):
 
 
 def test_winding_loss_equals_rms_loss_when_factors_are_one():
-    # I_rms^2 = I_dc^2 + dI^2/12 for DC + triangle (check-values.md): 10 A + 3 A p-p
+    # I_rms^2 = I_dc^2 + dI^2/12 for DC + triangle (check_values.md): 10 A + 3 A p-p
     # -> I_rms = 10.037430 A, rel 1e-6; amplitudes from an FFT of the waveform.
     amplitudes = _triangle_harmonics(3.0, 0.3)
     resistance = 0.02

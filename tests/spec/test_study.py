@@ -1,7 +1,7 @@
 """Study files: loading, defaults, derived values and problem reports.
 
 The derived inductance is checked against the CCM relations of Erickson & Maksimović,
-Fundamentals of Power Electronics, ch. 2 (check-values.md "Waveforms"). What the
+Fundamentals of Power Electronics, ch. 2 (check_values.md "Waveforms"). What the
 loader accepts and rejects is the study-file schema itself (common practice, no
 source).
 """

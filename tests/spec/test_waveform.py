@@ -1,7 +1,7 @@
 """Converter inductor-current waveforms and their harmonics.
 
 Sources: CCM relations and the triangle spectrum from Erickson & Maksimović,
-Fundamentals of Power Electronics (ch. 2, 5, 13) as listed in check-values.md;
+Fundamentals of Power Electronics (ch. 2, 5, 13) as listed in check_values.md;
 independent routes are scipy quadrature and numpy FFT of finely sampled waves.
 """
 
@@ -47,7 +47,7 @@ def quad_mean(times_s: np.ndarray, values: np.ndarray, power: int) -> float:
     return total / (times_s[-1] - times_s[0])
 
 
-# --- CCM relations (Erickson & Maksimović ch. 2, check-values.md "Waveforms") ----------
+# --- CCM relations (Erickson & Maksimović ch. 2, check_values.md "Waveforms") ----------
 
 
 def test_buck_ccm_duty_ripple_and_current_scalar() -> None:
@@ -136,7 +136,7 @@ def test_unknown_topology_is_rejected() -> None:
         inductor_voltages("flyback", 12.0, 5.0, 1.0)
 
 
-# --- RMS (check-values.md: I_rms² = I_dc² + ΔI²/12, 10.037430 A) ----------------------
+# --- RMS (check_values.md: I_rms² = I_dc² + ΔI²/12, 10.037430 A) ----------------------
 
 
 def test_rms_of_dc_plus_triangle_check_value() -> None:
@@ -155,7 +155,7 @@ def test_rms_matches_quadrature_for_ccm_and_dcm() -> None:
 
 
 def test_rms_array_for_any_duty() -> None:
-    # I_rms² = I_dc² + ΔI²/12 holds for any D (check-values.md, N).
+    # I_rms² = I_dc² + ΔI²/12 holds for any D (check_values.md, N).
     vo = np.linspace(1.0, 47.0, 7)
     shape = inductor_current_shape("buck", 48.0, vo, 10.0, 500e3, 50e-6)
     np.testing.assert_allclose(
@@ -163,11 +163,11 @@ def test_rms_array_for_any_duty() -> None:
     )
 
 
-# --- triangle spectrum (check-values.md; c_n = ΔI |sin(π n D)| / (π² n² D (1 − D))) --
+# --- triangle spectrum (check_values.md; c_n = ΔI |sin(π n D)| / (π² n² D (1 − D))) --
 
 
 def test_triangle_harmonics_check_values() -> None:
-    # Printed to 6 decimals in check-values.md, so compared to half a unit of that digit.
+    # Printed to 6 decimals in check_values.md, so compared to half a unit of that digit.
     symmetric = triangle_harmonics(1.0, 0.5, 4)
     assert symmetric[0] == pytest.approx(0.405285, abs=5e-7)
     assert symmetric[2] == pytest.approx(0.045032, abs=5e-7)
