@@ -158,15 +158,48 @@ def _hypervolume_recursive(points: np.ndarray, reference: np.ndarray) -> float:
     return total
 
 
+#: An objective whose spread over the front is smaller than this fraction of its best
+#: value is scaled as if it spread that much, so differences that are negligible in
+#: absolute terms (a cost differing by cents) cannot outweigh real trades in the other
+#: objectives (common practice, no source).
+NEGLIGIBLE_SPREAD = 0.2
+
+#: Name of the normalisation, as written into the run record.
+NORMALISATION_METHOD = (
+    "each objective minus its best value on the front, divided by the larger of its spread "
+    f"over the front and {NEGLIGIBLE_SPREAD:.0%} of the magnitude of its best value"
+)
+
+#: Name of the knee rule, as written into the run record.
+KNEE_METHOD = "closest to the ideal point (Euclidean) after normalising the objectives"
+
+
+def normalised_objectives(points: ArrayLike) -> NDArray[np.float64]:
+    """Objectives scaled for comparing trades across objectives (see `NORMALISATION_METHOD`).
+
+    Each column becomes ``(x - best) / max(spread, NEGLIGIBLE_SPREAD * |best|)``: 0 at the
+    best value and 1 at the worst when the front spreads widely; when it spreads less
+    than ``NEGLIGIBLE_SPREAD`` of the best value, its whole spread maps to less than 1. A
+    column that is constant (and zero) maps to 0.
+    """
+    points = np.asarray(points, dtype=float)
+    if points.ndim != 2:
+        raise ValueError("objectives must be a 2-D array (points, objectives)")
+    if len(points) == 0:
+        return points.copy()
+    low = points.min(axis=0)
+    span = points.max(axis=0) - low
+    scale = np.maximum(span, NEGLIGIBLE_SPREAD * np.abs(low))
+    scale[scale == 0] = 1.0
+    return (points - low) / scale
+
+
 def knee_index(points: ArrayLike) -> int:
-    """Index of the knee of a front: the point closest to the ideal point after scaling
-    every objective to [0, 1] over the front (common practice, no source)."""
+    """Index of the knee of a front: the point closest to the ideal point after
+    `normalised_objectives` (common practice, no source)."""
     points = np.asarray(points, dtype=float)
     if len(points) == 0:
         raise ValueError("an empty front has no knee")
-    low = points.min(axis=0)
-    span = points.max(axis=0) - low
-    span[span == 0] = 1.0
-    scaled = (points - low) / span
+    scaled = normalised_objectives(points)
     distance = np.sqrt(np.sum(scaled**2, axis=1))
     return int(np.argmin(distance))

@@ -18,7 +18,8 @@ from optimag import __version__, model
 from optimag.errors import InputError, Problem
 from optimag.report import export
 from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
-from optimag.search.pareto import knee_index
+from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
+from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
 
 DEFAULT_TOP = 20
 
@@ -112,10 +113,12 @@ def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
         for i, rec in enumerate(records):
             rec["knee"] = i == knee
         pareto = export.records_frame(records)[export.PARETO_COLUMNS]
-        first = model.OBJECTIVE_COLUMNS[objectives[0]]
-        ranked = [knee] + [int(i) for i in np.argsort(pareto[first].to_numpy(), kind="stable")
-                           if i != knee]
-        shortlist_records = [records[i] for i in ranked[:top]]
+        groups = np.column_stack([front_candidates.core, front_candidates.material,
+                                  front_candidates.turns])
+        picked = spread_shortlist(front.objectives[order], groups, top)
+        # The knee first, then the rest in front order (sorted by the first objective).
+        ranked = picked[:1] + sorted(picked[1:])
+        shortlist_records = [records[i] for i in ranked]
         for rank, rec in enumerate(shortlist_records, start=1):
             rec["rank"] = rank
     near_records = []
@@ -148,6 +151,9 @@ def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
             f"{model.WINDING_REFERENCE_TEMPERATURES_C[1]} degC",
         },
         "objectives": objectives,
+        "shortlist_method": SHORTLIST_METHOD,
+        "knee_method": KNEE_METHOD,
+        "normalisation": NORMALISATION_METHOD,
         "required_inductance_uH": space.requirements.inductance_H * 1e6,
         "counts": {
             "total": int(outcome.total),
