@@ -41,12 +41,14 @@ CONSTRAINTS = (
     "fill_factor",
     "height",
     "footprint",
+    "volume",
     "temperature",
     "loss_budget",
+    "mass",
 )
 MAGNETIC_CONSTRAINTS = CONSTRAINTS[:3]
-WINDING_CONSTRAINTS = CONSTRAINTS[3:7]
-FINAL_CONSTRAINTS = CONSTRAINTS[7:]
+WINDING_CONSTRAINTS = CONSTRAINTS[3:8]
+FINAL_CONSTRAINTS = CONSTRAINTS[8:]
 
 #: Objective name -> metric column.
 OBJECTIVE_COLUMNS = {
@@ -295,6 +297,8 @@ class Requirements:
     max_temperature_C: float
     max_height_m: float
     max_footprint_m2: float
+    max_volume_m3: float
+    max_mass_kg: float
     flux_margin: float
     max_fill_factor: float
     max_loss_W: float
@@ -349,6 +353,8 @@ def build_design_space(study, catalog) -> DesignSpace:
         max_temperature_C=float(limits.max_temperature_C),
         max_height_m=_finite_or_inf(limits.max_height_mm) * 1e-3,
         max_footprint_m2=_finite_or_inf(limits.max_footprint_mm2) * 1e-6,
+        max_volume_m3=_finite_or_inf(limits.max_volume_cm3) * 1e-6,
+        max_mass_kg=_finite_or_inf(limits.max_mass_g) * 1e-3,
         flux_margin=float(limits.flux_margin),
         max_fill_factor=float(limits.max_fill_factor),
         max_loss_W=_finite_or_inf(limits.max_loss_W),
@@ -603,6 +609,7 @@ def winding_layout_stage(
         for e, p, r in zip(box_e, box_pot, box_ring, strict=True)
     )
     footprint = geometry.footprint(box_length, box_width)
+    volume = geometry.box_volume(box_length, box_width, box_height)
     copper_mass = geometry.copper_mass(n_turns, mlt, copper_per_turn)
     return {
         "layers": layers,
@@ -616,7 +623,7 @@ def winding_layout_stage(
         "box_width_m": box_width,
         "box_height_m": box_height,
         "footprint_m2": footprint,
-        "volume_m3": geometry.box_volume(box_length, box_width, box_height),
+        "volume_m3": volume,
         "surface_m2": geometry.surface_area_box(box_length, box_width, box_height),
         "copper_mass_kg": copper_mass,
         "copper_cost": copper_mass * w.price_per_kg[wire] + n_turns * req.labour_per_turn,
@@ -624,6 +631,7 @@ def winding_layout_stage(
         "violation_fill_factor": fill / req.max_fill_factor - 1.0,
         "violation_height": box_height / req.max_height_m - 1.0,
         "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
+        "violation_volume": volume / req.max_volume_m3 - 1.0,
     }
 
 
@@ -828,6 +836,7 @@ def combine_stage(
             any_runaway, 1.0, (worst_t - req.max_temperature_C) / temperature_span
         ),
         "violation_loss_budget": weighted_loss / req.max_loss_W - 1.0,
+        "violation_mass": mass / req.max_mass_kg - 1.0,
     }
 
 

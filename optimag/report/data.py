@@ -100,6 +100,8 @@ CONSTRAINT_MEANING: dict[str, str] = {
     "fill_factor": "window fill above the allowed fill factor",
     "height": "taller than the allowed height",
     "footprint": "board area larger than allowed",
+    "volume": "boxed volume larger than allowed",
+    "mass": "heavier than allowed",
     "temperature": "temperature above the limit",
     "thermal_runaway": "no stable operating temperature (loss grows faster than cooling)",
     "loss_budget": "total loss above the budget",

@@ -164,7 +164,7 @@ class OptunaProblem:
       counts only); ``turns_position`` picks the turn count at that relative position in
       the band;
     * winding: the (wire, parallel) pairs sorted by copper area per turn; the winding
-      constraints (`model.WINDING_CONSTRAINTS`: fit, fill, height, footprint) select the
+      constraints (`model.WINDING_CONSTRAINTS`: fit, fill, height, footprint, volume) select the
       pairs the core and turns admit; ``winding_position`` picks one at that relative
       position.
 
@@ -203,7 +203,7 @@ class OptunaProblem:
         self._exhausted: set[tuple] = set()
 
     def _cores_within_size_limits(self) -> np.ndarray:
-        """Catalogue cores that can meet the height and footprint limits at all.
+        """Catalogue cores that can meet the height, footprint and volume limits at all.
 
         The wound box grows with the stack, the turns, the strands in parallel and the
         conductor build, so the smallest box a core can have is that of its smallest
@@ -223,7 +223,7 @@ class OptunaProblem:
             ones * int(space.parallels[0]),
         )
         fits = np.ones(len(core), dtype=bool)
-        for name in ("height", "footprint"):
+        for name in ("height", "footprint", "volume"):
             fits &= ~(layout[f"violation_{name}"] > 0)
         viable = np.flatnonzero(fits.reshape(n_core, n_wire).any(axis=1))
         return viable if viable.size else np.arange(n_core)

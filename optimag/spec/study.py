@@ -122,6 +122,8 @@ class Limits(_Section):
     flux_margin: Fraction = 0.8
     max_fill_factor: Fraction = 0.5
     max_loss_W: PositiveNumber | None = None
+    max_volume_cm3: PositiveNumber | None = None
+    max_mass_g: PositiveNumber | None = None
 
 
 Objective = Literal["volume", "loss", "cost", "mass"]

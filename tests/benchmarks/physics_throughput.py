@@ -98,7 +98,8 @@ def build_space() -> model.DesignSpace:
     ]
     requirements = model.Requirements(
         inductance_H=inductance, tolerance=0.1, min_fraction_at_peak=0.8, ambient_C=50.0,
-        max_temperature_C=110.0, max_height_m=0.03, max_footprint_m2=np.inf, flux_margin=0.8,
+        max_temperature_C=110.0, max_height_m=0.03, max_footprint_m2=np.inf,
+        max_volume_m3=np.inf, max_mass_kg=np.inf, flux_margin=0.8,
         max_fill_factor=0.5, max_loss_W=np.inf, fringing="mclyman",
         thermal_model="convection", emissivity=0.9, labour_per_turn=0.02,
     )

@@ -152,3 +152,28 @@ def test_unknown_filter_id_is_reported_with_suggestion(make_tiny_study, capsys):
     assert main(["check", str(path)]) == 2
     err = capsys.readouterr().err
     assert "search.materials" in err and "did you mean 'fer-midf'" in err
+
+
+def test_volume_and_mass_limits_cut_the_front_where_they_should(make_tiny_study):
+    free = explore(make_tiny_study())
+    volume = free.pareto["volume_cm3"].to_numpy()
+    mass = free.pareto["mass_g"].to_numpy()
+    # Just above the median (exported figures are rounded to six significant digits).
+    volume_limit = float(np.median(volume)) * (1 + 1e-4)
+    mass_limit = float(np.median(mass)) * (1 + 1e-4)
+    limits = f"max_volume_cm3 = {volume_limit!r}\nmax_mass_g = {mass_limit!r}\n"
+    cut = explore(make_tiny_study(replace={"max_fill_factor = 0.5": "max_fill_factor = 0.5\n"
+                                           + limits}))
+    counts = cut.record["counts"]
+    assert counts["eliminated"]["volume"] > 0 and counts["eliminated"]["mass"] > 0
+    assert sum(counts["eliminated"].values()) + counts["feasible"] == counts["total"]
+    assert cut.pareto["volume_cm3"].max() <= volume_limit
+    assert cut.pareto["mass_g"].max() <= mass_limit
+    # Every free-front design within both limits is still feasible, so it is on the new
+    # front or dominated by a member of it (the limits remove designs, they add none).
+    inside = (volume <= volume_limit) & (mass <= mass_limit)
+    assert inside.any()
+    columns = ["volume_cm3", "total_loss_W", "cost"]
+    new_front = cut.pareto[columns].to_numpy()
+    for row in free.pareto.loc[inside, columns].to_numpy():
+        assert np.any(np.all(new_front <= row * (1 + 1e-9), axis=1))
