@@ -52,12 +52,8 @@ def _explore(args) -> int:
     from rich.table import Table
 
     from optimag.catalog import load_catalog
-    from optimag.search.run import (
-        check_study_against_catalog,
-        default_run_dir,
-        explore,
-        write_run,
-    )
+    from optimag.runfolder import default_run_dir, write_run
+    from optimag.search.run import check_study_against_catalog, explore
     from optimag.spec import load_study
 
     console = Console(stderr=True)
@@ -132,14 +128,14 @@ def _explore(args) -> int:
         return 1
     table = Table(title=f"Short-list (first {min(5, len(result.shortlist_records))}; all in "
                         f"{run_dir / 'shortlist.csv'})")
-    for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "loss W", "T °C",
+    for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "weighted loss W", "T °C",
                 "vol cm³", "cost"):
         table.add_column(col)
     for rec in result.shortlist_records[:5]:
         table.add_row(
             rec["design_id"] + (" (knee)" if rec.get("knee") else ""), rec["core"],
             rec["material"], str(rec["turns"]), f"{rec['gap_mm']:.3f}", rec["wire"],
-            str(rec["parallel"]), f"{rec['total_loss_W']:.3f}", f"{rec['temperature_C']:.1f}",
+            str(rec["parallel"]), f"{rec['weighted_loss_W']:.3f}", f"{rec['temperature_C']:.1f}",
             f"{rec['volume_cm3']:.2f}", f"{rec['cost']:.2f}",
         )
     out.print(table)

@@ -30,7 +30,7 @@ import pandas as pd
 
 from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
-from optimag.physics import coreloss, geometry, magnetic, thermal, winding
+from optimag.physics import coreloss, geometry, magnetic, sizing, thermal, winding
 
 #: Constraint names in the order a candidate's elimination is attributed.
 CONSTRAINTS = (
@@ -53,7 +53,7 @@ FINAL_CONSTRAINTS = CONSTRAINTS[8:]
 #: Objective name -> metric column.
 OBJECTIVE_COLUMNS = {
     "volume": "volume_cm3",
-    "loss": "total_loss_W",
+    "loss": "weighted_loss_W",
     "cost": "cost",
     "mass": "mass_g",
 }
@@ -262,6 +262,9 @@ class OperatingArrays:
     dc_A: np.ndarray  # (K,)
     ripple_A: np.ndarray  # (K,) peak to peak
     harmonics_A: np.ndarray  # (K, H)
+    input_V: np.ndarray  # (K,)
+    output_V: np.ndarray  # (K,)
+    load_A: np.ndarray  # (K,)
 
     @classmethod
     def from_waveforms(cls, waveforms) -> OperatingArrays:
@@ -275,6 +278,9 @@ class OperatingArrays:
             dc_A=np.array([w.dc_A for w in waveforms], dtype=float),
             ripple_A=np.array([w.ripple_pp_A for w in waveforms], dtype=float),
             harmonics_A=np.stack([np.asarray(w.harmonics_A, dtype=float) for w in waveforms]),
+            input_V=np.array([w.input_V for w in waveforms], dtype=float),
+            output_V=np.array([w.output_V for w in waveforms], dtype=float),
+            load_A=np.array([w.load_A for w in waveforms], dtype=float),
         )
 
     @property
@@ -496,13 +502,11 @@ def magnetic_stage(
         powder[:, None], b_peak_powder - b_valley_powder, flux_per_amp * (peak - valley)
     )
     b_peak = np.where(powder[:, None], b_peak_powder, b_peak_linear)
-    # Saturation is decided in the narrowest section, at the hottest allowed temperature:
-    # a feasible part runs no hotter, and Bsat falls with temperature.
+    # Saturation is decided in the narrowest section (Amin), at the hottest allowed
+    # temperature: a feasible part runs no hotter, and Bsat falls with temperature. The
+    # peak flux the model reports is this one; the swing for core loss stays on Ae.
     b_peak_narrow = b_peak * (ae / amin)[:, None]
-    bsat_hot = magnetic.bsat_at_temperature(
-        req.max_temperature_C, m.bsat_25C_T[material], m.bsat_100C_T[material]
-    )
-    flux_limit = req.flux_margin * bsat_hot
+    bsat_hot, flux_limit = saturation_limits(space, material)
     worst_flux = b_peak_narrow.max(axis=1)
     saturation_violation = worst_flux / flux_limit - 1.0
 
@@ -525,9 +529,10 @@ def magnetic_stage(
     core_loss_reference = loss_density * ve[:, None]  # W at temperature factor 1
     return {
         "gap_m": gap,
+        "bsat_at_limit_T": bsat_hot,
         "inductance_H": inductance0,
         "inductance_at_peak_H": inductance_peak,
-        "peak_flux_T": b_peak,
+        "peak_flux_T": b_peak_narrow,
         "flux_swing_T": b_swing,
         "worst_flux_T": worst_flux,
         "flux_limit_T": flux_limit,
@@ -827,7 +832,7 @@ def combine_stage(
         "winding_ac_loss_W": ac_loss,
         "point_loss_W": point_loss,
         "core_loss_temperature_factor": ct,
-        "total_loss_W": weighted_loss,
+        "weighted_loss_W": weighted_loss,
         "worst_temperature_C": np.where(any_runaway, thermal.RUNAWAY_TEMPERATURE_C, worst_t),
         "volume_cm3": wdg["volume_m3"] * 1e6,
         "mass_g": mass * 1e3,
@@ -902,3 +907,138 @@ def evaluate(space: DesignSpace, candidates: Candidates) -> dict[str, np.ndarray
 def objective_matrix(metrics: dict[str, np.ndarray], objectives: list[str]) -> np.ndarray:
     """Objective columns (minimised) in the study's order, shape (n, n_objectives)."""
     return np.stack([metrics[OBJECTIVE_COLUMNS[name]] for name in objectives], axis=1)
+
+
+# ---------------------------------------------------------------------------------------
+# Figures for the records of a few chosen designs (front, short-list, near misses)
+# ---------------------------------------------------------------------------------------
+
+#: Wire added at each end of a winding for its leads when the wire is cut [m]
+#: (common practice, no source).
+LEAD_ALLOWANCE_M = 0.05
+
+#: RMS current density the hand sizing procedure assumes [A/m^2] (4 A/mm^2; common
+#: practice for naturally cooled inductors, no source).
+HAND_CURRENT_DENSITY_A_PER_M2 = 4.0e6
+
+
+def converter_peak_and_rms_A(space: DesignSpace) -> tuple[np.ndarray, np.ndarray]:
+    """Peak and RMS inductor current [A] of each operating point at the required
+    inductance (RMS from the DC value and the harmonic amplitudes, Parseval)."""
+    op = space.operating
+    rms = np.sqrt(op.dc_A**2 + 0.5 * np.sum(op.harmonics_A**2, axis=1))
+    return op.peak_A, rms
+
+
+def area_product_required_m4(space: DesignSpace, material: np.ndarray) -> np.ndarray:
+    """Area product [m^4] the energy-storage sizing method asks of a core of ``material``:
+    required inductance, the highest peak and RMS converter currents, the material's flux
+    limit, `HAND_CURRENT_DENSITY_A_PER_M2` and the study's fill limit as window use."""
+    req = space.requirements
+    peak, rms = converter_peak_and_rms_A(space)
+    return sizing.area_product_required(
+        req.inductance_H, float(peak.max()), float(rms.max()),
+        saturation_limits(space, material)[1], HAND_CURRENT_DENSITY_A_PER_M2, req.max_fill_factor,
+    )
+
+
+def saturation_limits(space: DesignSpace, material: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Bsat at the temperature limit [T] and the allowed peak flux density [T] (the flux
+    margin times that Bsat), which the saturation constraint checks the peak flux on Amin
+    against."""
+    m, req = space.materials, space.requirements
+    bsat = magnetic.bsat_at_temperature(
+        req.max_temperature_C, m.bsat_25C_T[material], m.bsat_100C_T[material]
+    )
+    return bsat, req.flux_margin * bsat
+
+
+def design_details(
+    space: DesignSpace, candidates: Candidates, metrics: dict[str, np.ndarray]
+) -> dict[str, np.ndarray]:
+    """Figures a build record needs beyond those the search ranks on, for a few evaluated
+    candidates (``metrics`` from `evaluate`, row-aligned).
+
+    Per operating point (n, K): ``dc_resistance_ohm`` at the settled temperature (the
+    resistance the DC winding loss was computed with; a runaway point at the temperature
+    limit). Per design (n,): ``al_value_H`` (inductance at zero current per turn squared),
+    ``gap_centre_leg_m`` and ``gap_outer_leg_m`` (the model gaps the leg the winding sits
+    on only), ``winding_length_m`` (turns x MLT, one conductor), ``wire_length_m`` (each
+    parallel conductor with `LEAD_ALLOWANCE_M` at both ends, all conductors together),
+    ``copper_mass_kg``, area product and geometry coefficient with their required values.
+    """
+    c, req = space.cores, space.requirements
+    core, stack, material = candidates.core, candidates.stack.astype(float), candidates.material
+    n_turns = candidates.turns.astype(float)
+    n_par = candidates.parallel.astype(float)
+    temperature = np.where(metrics["runaway"], req.max_temperature_C, metrics["temperature_C"])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityRangeWarning)
+        rho = winding.copper_resistivity(temperature)
+    rdc = metrics["dc_resistance_20C_ohm"][:, None] * (rho / COPPER_RESISTIVITY_20C)
+    ae = c.ae_m2[core] * stack
+    window = c.window_area_m2[core]
+    winding_length = n_turns * metrics["mlt_m"]
+    peak, _ = converter_peak_and_rms_A(space)
+    limit = saturation_limits(space, material)[1]
+    return {
+        "dc_resistance_ohm": rdc,
+        "al_value_H": metrics["inductance_H"] / n_turns**2,
+        "gap_centre_leg_m": metrics["gap_m"],
+        "gap_outer_leg_m": np.zeros_like(metrics["gap_m"]),
+        "winding_length_m": winding_length,
+        "wire_length_m": n_par * (winding_length + 2 * LEAD_ALLOWANCE_M),
+        "area_product_m4": sizing.area_product(ae, window),
+        "area_product_required_m4": area_product_required_m4(space, material),
+        "geometry_coefficient_m5": sizing.geometry_coefficient(ae, window, metrics["mlt_m"]),
+        "geometry_coefficient_required_m5": sizing.geometry_coefficient_required(
+            req.inductance_H, float(peak.max()), metrics["dc_resistance_20C_ohm"], limit,
+            req.max_fill_factor,
+        ),
+    }
+
+
+def inductance_curve(
+    space: DesignSpace,
+    candidates: Candidates,
+    metrics: dict[str, np.ndarray],
+    current_A: np.ndarray,
+    temperature_C: np.ndarray,
+) -> np.ndarray:
+    """Incremental inductance [H] of each candidate at the currents ``current_A`` (n, P)
+    with the core at ``temperature_C`` (n,).
+
+    Powder: the roll-off law the model uses. Gapped or ungapped ferrite: the model's
+    zero-current inductance until the narrowest section (Amin) reaches Bsat at the given
+    temperature, then the core taken as fully saturated (relative permeability 1), leaving
+    the same gap reluctance the model used in the remaining path — a hard-saturation
+    approximation (common practice, no source).
+    """
+    c, m, req = space.cores, space.materials, space.requirements
+    core, material = candidates.core, candidates.material
+    stack = candidates.stack.astype(float)
+    n_turns = candidates.turns.astype(float)[:, None]
+    current = np.asarray(current_A, dtype=float)
+    ae = (c.ae_m2[core] * stack)[:, None]
+    amin = (c.amin_m2[core] * stack)[:, None]
+    le = c.le_m[core][:, None]
+    col = (slice(None), None)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityRangeWarning)
+        powder = magnetic.powder_inductance(
+            n_turns, current, le, ae, m.mu_i[material][col], m.rolloff_a[material][col],
+            m.rolloff_b[material][col], m.rolloff_c[material][col],
+        )
+        l0 = metrics["inductance_H"][:, None]
+        bsat = magnetic.bsat_at_temperature(
+            np.asarray(temperature_C, dtype=float), m.bsat_25C_T[material],
+            m.bsat_100C_T[material],
+        )[:, None]
+        current_at_bsat = bsat * n_turns * amin / l0
+        leg_w, leg_d = gapped_leg_sides(space, core, candidates.stack)
+        r_gap = magnetic.gap_reluctance(
+            metrics["gap_m"], ae[:, 0], c.breadth_m[core], leg_w, leg_d, model=req.fringing
+        )[:, None]
+        saturated = magnetic.inductance(n_turns, magnetic.core_reluctance(le, ae, 1.0) + r_gap)
+    ferrite = np.where(current <= current_at_bsat, l0, saturated)
+    return np.where((m.kind[material] == 1)[:, None], powder, ferrite)

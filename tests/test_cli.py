@@ -16,11 +16,12 @@ RECORD_FIELDS = {
     "design_id", "core", "material", "stack", "turns", "gap_mm", "wire", "parallel", "layers",
     "fill_factor", "inductance_uH", "inductance_at_peak_uH", "peak_current_A", "peak_flux_T",
     "flux_swing_T", "core_loss_W", "winding_dc_loss_W", "winding_ac_loss_W", "total_loss_W",
-    "temperature_C", "volume_cm3", "mass_g", "cost", "operating_point", "dcm",
+    "weighted_loss_W", "temperature_C", "volume_cm3", "mass_g", "cost", "operating_point", "dcm",
     "per_operating_point", "inputs",
 }
 INPUT_FIELDS = {
-    "Ae_mm2", "le_mm", "Ve_mm3", "mu_r", "window_breadth_mm", "mlt_mm", "copper_area_mm2",
+    "input_V", "output_V", "load_A", "Ae_mm2", "Amin_mm2", "le_mm", "Ve_mm3", "mu_r",
+    "window_breadth_mm", "mlt_mm", "copper_area_mm2",
     "dc_resistance_mOhm", "frequency_kHz", "dc_current_A", "ripple_A", "duty", "steinmetz_k",
     "steinmetz_alpha", "steinmetz_beta", "core_loss_temperature_factor",
 }
@@ -74,8 +75,10 @@ def test_readme_demo_command_writes_the_run_folder(tmp_path):
     rebuilt = optimag("report", str(out))
     assert rebuilt.returncode == 0, rebuilt.stderr
     pareto = pd.read_csv(out / "pareto.csv")
-    assert {"volume_cm3", "total_loss_W", "cost", "mass_g"} <= set(pareto.columns)
-    assert len(pd.read_excel(out / "shortlist.xlsx")) == len(designs)
+    assert {"volume_cm3", "weighted_loss_W", "total_loss_W", "cost", "mass_g"} <= set(
+        pareto.columns)
+    # Row 2 of the short-list sheet holds the units.
+    assert len(pd.read_excel(out / "shortlist.xlsx", skiprows=[1])) == len(designs)
 
 
 def test_bad_study_gives_problems_not_traceback(tmp_path):

@@ -77,7 +77,7 @@ def test_flat_evaluation_is_row_independent(tiny_space):
     batch = model.evaluate(tiny_space, cands)
     for i in range(0, 60, 7):
         alone = model.evaluate(tiny_space, cands.take(slice(i, i + 1)))
-        for key in ("total_loss_W", "volume_cm3", "cost", "mass_g", "worst_violation"):
+        for key in ("weighted_loss_W", "volume_cm3", "cost", "mass_g", "worst_violation"):
             assert alone[key][0] == pytest.approx(batch[key][i], rel=1e-9, abs=1e-12)
 
 

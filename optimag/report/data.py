@@ -26,46 +26,29 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from optimag import model, records
 from optimag.errors import InputError, Problem
-from optimag.report import export
 
-#: Objective name -> (pareto.csv column, axis title, unit; None means the run's currency).
+
+def _objective(column: str) -> tuple[str, str, str | None]:
+    unit = records.figure(column).unit
+    return column, records.figure(column).label, None if unit == "currency" else unit
+
+
+#: Objective name -> (pareto.csv column, axis title, unit; None means the run's currency),
+#: all from the record schema.
 OBJECTIVES: dict[str, tuple[str, str, str | None]] = {
-    "volume": ("volume_cm3", "Boxed volume", "cm³"),
-    "loss": ("total_loss_W", "Total loss", "W"),
-    "cost": ("cost", "Cost", None),
-    "mass": ("mass_g", "Mass", "g"),
+    name: _objective(column) for name, column in model.OBJECTIVE_COLUMNS.items()
 }
 
-PARETO_TEXT_COLUMNS = export.PARETO_TEXT_COLUMNS
+PARETO_TEXT_COLUMNS = records.PARETO_TEXT_COLUMNS
 PARETO_NUMBER_COLUMNS = tuple(
-    c for c in export.PARETO_COLUMNS if c not in PARETO_TEXT_COLUMNS and c != "knee"
+    c for c in records.PARETO_COLUMNS if c not in PARETO_TEXT_COLUMNS and c != "knee"
 )
-PARETO_COLUMNS = tuple(export.PARETO_COLUMNS)
-RECORD_FIELDS = export.SHORTLIST_RECORD_FIELDS
-MARGIN_FIELDS = (
-    "flux_T",
-    "flux_limit_T",
-    "temperature_C",
-    "temperature_limit_C",
-    "fill_factor",
-    "fill_limit",
-    "inductance_at_peak_fraction",
-    "inductance_at_peak_limit",
-)
-WINDING_FIELDS = (
-    "kind",
-    "conductor_outer_mm",
-    "foil_thickness_mm",
-    "conductors_per_layer",
-    "layers",
-    "turns",
-    "parallel",
-    "window_breadth_mm",
-    "window_width_mm",
-    "bobbin_wall_mm",
-    "build_mm",
-)
+PARETO_COLUMNS = tuple(records.PARETO_COLUMNS)
+RECORD_FIELDS = records.RECORD_FIELDS
+MARGIN_FIELDS = records.MARGIN_FIELDS
+WINDING_FIELDS = records.WINDING_FIELDS
 RUN_FIELDS = (
     "version",
     "study_name",
@@ -79,16 +62,14 @@ RUN_FIELDS = (
     "currency",
 )
 
-#: Short-list columns shown side by side on parallel axes, with axis titles.
+#: Short-list columns shown side by side on parallel axes, with axis titles (the
+#: schema's words; the cost title gets the run's currency when drawn).
 PARALLEL_AXES: dict[str, str] = {
-    "turns": "Turns",
-    "gap_mm": "Gap [mm]",
-    "fill_factor": "Fill",
-    "peak_flux_T": "Peak B [T]",
-    "temperature_C": "Temp. [°C]",
-    "total_loss_W": "Loss [W]",
-    "volume_cm3": "Volume [cm³]",
-    "cost": "Cost",
+    column: records.header(column)
+    for column in (
+        "turns", "gap_mm", "fill_factor", "peak_flux_T", "temperature_C", "weighted_loss_W",
+        "volume_cm3", "cost",
+    )
 }
 
 #: What each elimination reason means, in the report's words.
@@ -390,6 +371,7 @@ def shortlist_table(run: RunData) -> pd.DataFrame:
         "winding_dc_loss_W",
         "winding_ac_loss_W",
         "total_loss_W",
+        "weighted_loss_W",
         "volume_cm3",
         "mass_g",
         "cost",
@@ -406,35 +388,37 @@ def _number(value: float, digits: int = 3) -> str:
     return f"{value:.{digits}g}"
 
 
+#: Figures the build sheet lists, in order (labels, units and precision from the schema).
+BUILD_SHEET_FIELDS = (
+    "core", "family", "stack", "material", "material_kind", "gap_method",
+    "gap_centre_leg_mm", "gap_outer_leg_mm", "al_value_nH", "turns", "wire", "wire_kind",
+    "parallel", "layers", "fill_factor", "winding_length_m", "lead_allowance_mm",
+    "wire_length_m", "copper_mass_g", "dc_resistance_20C_mOhm", "dc_resistance_mOhm",
+    "box_length_mm", "box_width_mm", "box_height_mm", "volume_cm3", "inductance_uH",
+    "inductance_at_peak_uH", "peak_current_A", "peak_flux_T", "weighted_loss_W", "mass_g",
+    "cost", "area_product_cm4", "area_product_required_cm4",
+)
+
+
 def build_sheet_table(record: dict[str, Any], currency: str) -> pd.DataFrame:
-    """The build sheet's item/value table for one design (values as display strings)."""
-    winding = record["winding"]
-    box = record["box_mm"]
-    gap = float(record["gap_mm"])
-    rows = [
-        ("Core", str(record["core"])),
-        ("Core family", str(record["family"])),
-        ("Cores stacked", f"{int(record['stack'])}"),
-        ("Material", f"{record['material']} ({record['material_kind']})"),
-        ("Air gap [mm]", "none (distributed gap)" if gap == 0 else f"{gap:.3f}"),
-        ("Turns", f"{int(record['turns'])}"),
-        ("Wire", f"{record['wire']} ({record['wire_kind']})"),
-        ("Parallel strands", f"{int(record['parallel'])}"),
-        ("Layers", f"{int(record['layers'])}"),
-        ("Conductors per layer", f"{int(winding['conductors_per_layer'])}"),
-        ("Fill factor", f"{float(record['fill_factor']):.3f}"),
-        ("Winding build [mm]", f"{float(winding['build_mm']):.2f}"),
-        (
-            "Box L × W × H [mm]",
-            f"{float(box['length']):.1f} × {float(box['width']):.1f} × {float(box['height']):.1f}",
-        ),
-        (
-            "Inductance, no load / at peak [µH]",
-            f"{float(record['inductance_uH']):.1f} / {float(record['inductance_at_peak_uH']):.1f}",
-        ),
-        ("Mass [g]", f"{float(record['mass_g']):.1f}"),
-        (f"Cost [{currency}]" if currency else "Cost", f"{float(record['cost']):.2f}"),
-    ]
+    """The build sheet's item/value table for one design (values as display strings),
+    then its parts list as ``order: item`` lines."""
+    rows = []
+    for name in BUILD_SHEET_FIELDS:
+        if name not in record:
+            continue
+        label = records.header(name, currency)
+        if name == "dc_resistance_mOhm":
+            label = f"{label} ({_number(float(record['temperature_C']))} °C)"
+        rows.append((label, records.display(name, record[name])))
+        if name == "layers":
+            per_layer = int(record["winding"]["conductors_per_layer"])
+            rows.append(("Conductors per layer", f"{per_layer}"))
+    for part in record.get("parts") or []:
+        quantity = part["quantity"]
+        shown = records.display("wire_length_m", quantity) if part["item"] == "wire" else (
+            f"{int(quantity)}")
+        rows.append((f"Order: {part['item']}", f"{shown} · {part['description']}"))
     return pd.DataFrame(rows, columns=["item", "value"])
 
 
@@ -582,9 +566,9 @@ def margin_table(record: dict[str, Any]) -> pd.DataFrame:
     """
     margins = record["margins"]
     rows = [
-        ("Peak flux density", margins["flux_T"], margins["flux_limit_T"], "T", "max"),
-        ("Temperature", margins["temperature_C"], margins["temperature_limit_C"], "°C", "max"),
-        ("Window fill", margins["fill_factor"], margins["fill_limit"], "", "max"),
+        ("Peak flux density", record["peak_flux_T"], margins["flux_limit_T"], "T", "max"),
+        ("Temperature", record["temperature_C"], margins["temperature_limit_C"], "°C", "max"),
+        ("Window fill", record["fill_factor"], margins["fill_limit"], "", "max"),
         (
             "Inductance kept at peak",
             margins["inductance_at_peak_fraction"],
@@ -700,7 +684,7 @@ def custom_comparison_table(run: RunData) -> pd.DataFrame:
     """Catalogue designs on the volume-loss front against the smallest custom-core design
     with the same or lower loss (optuna runs with a custom core); empty otherwise."""
     columns = [
-        "catalogue_core", "loss_W", "catalogue_volume_cm3", "custom_core",
+        "catalogue_core", "weighted_loss_W", "catalogue_volume_cm3", "custom_core",
         "custom_volume_cm3", "volume_ratio",
     ]
     comparison = run.meta.get("custom_vs_catalogue") or {}

@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
+from optimag import records
 from optimag.report import style
 from optimag.report.data import OBJECTIVES, PARALLEL_AXES, PairView, objective_title
 
@@ -22,7 +23,7 @@ _HOVER = (
     "<b>%{customdata[0]}</b><br>"
     "core %{customdata[1]} · %{customdata[2]}<br>"
     "%{customdata[3]} turns · gap %{customdata[4]} mm · %{customdata[5]}<br>"
-    "loss %{customdata[6]} W · %{customdata[7]} °C<br>"
+    "weighted loss %{customdata[6]} W · %{customdata[7]} °C<br>"
     "volume %{customdata[8]} cm³ · cost %{customdata[9]}"
     "<extra></extra>"
 )
@@ -61,7 +62,7 @@ def _hover_data(rows: pd.DataFrame, currency: str) -> np.ndarray:
                 rows["turns"].map(lambda v: f"{int(v)}"),
                 rows["gap_mm"].map(lambda v: f"{float(v):.2f}"),
                 rows["wire"].map(plot_text),
-                rows["total_loss_W"].map(lambda v: f"{float(v):.2f}"),
+                rows["weighted_loss_W"].map(lambda v: f"{float(v):.3g}"),
                 rows["temperature_C"].map(lambda v: f"{float(v):.0f}"),
                 rows["volume_cm3"].map(lambda v: f"{float(v):.2f}"),
                 rows["cost"].map(lambda v: f"{float(v):.2f}{cost_unit}"),
@@ -216,7 +217,7 @@ def shortlist_parallel_figure(shortlist: pd.DataFrame, currency: str) -> go.Figu
     ]
     for column, label in PARALLEL_AXES.items():
         if column == "cost" and currency:
-            label = f"Cost [{plot_text(currency)}]"
+            label = plot_text(records.header("cost", currency))
         dimensions.append({"label": label, "values": shortlist[column].astype(float)})
     traces = [
         go.Parcoords(

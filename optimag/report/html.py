@@ -18,6 +18,7 @@ from typing import Any
 import pandas as pd
 import plotly.graph_objects as go
 
+from optimag import records
 from optimag.report import data, figures, style
 
 REPORT_NAME = "report.html"
@@ -236,10 +237,10 @@ def _custom_comparison(run: data.RunData) -> str:
         + (f"median {float(median):.2f}." if median is not None else "no ratio available.")
     )
     inner = _table(
-        ["Catalogue core", "Loss [W]", "Catalogue volume [cm³]", "Custom core",
-         "Custom volume [cm³]", "Volume ratio"],
+        ["Catalogue core", records.header("weighted_loss_W"), "Catalogue volume [cm³]",
+         "Custom core", "Custom volume [cm³]", "Volume ratio"],
         (
-            [r.catalogue_core, _number(r.loss_W, ".3f"),
+            [r.catalogue_core, _number(r.weighted_loss_W, ".3f"),
              _number(r.catalogue_volume_cm3, ".2f"), r.custom_core or "—",
              _number(r.custom_volume_cm3, ".2f"), _number(r.volume_ratio, ".2f")]
             for r in table.itertuples(index=False)
@@ -263,7 +264,7 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
             r.turns,
             f"{r.gap_mm:.2f}",
             f"{r.wire} ×{r.parallel}",
-            f"{r.total_loss_W:.2f}",
+            f"{r.weighted_loss_W:.3g}",
             f"{r.temperature_C:.0f}",
             f"{r.volume_cm3:.2f}",
             f"{r.cost:.2f}",
@@ -280,7 +281,7 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
             "Turns",
             "Gap [mm]",
             "Wire",
-            "Loss [W]",
+            records.header("weighted_loss_W"),
             "Temp. [°C]",
             "Volume [cm³]",
             cost_header,
@@ -363,9 +364,13 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> 
         badges += '<span class="badge">enters DCM</span>'
     if not margins["within"].all():
         badges += '<span class="badge warn">limit exceeded</span>'
+    # Header figures are those of the named operating point; the weighted loss (the
+    # objective, over all points) is named as such.
     summary = (
-        f"{float(record['inductance_uH']):.1f} µH · {float(record['total_loss_W']):.2f} W · "
-        f"{float(record['temperature_C']):.0f} °C at {record['operating_point']}"
+        f"{float(record['inductance_uH']):.1f} µH · at {record['operating_point']}: "
+        f"{records.display('total_loss_W', record['total_loss_W'])} W, "
+        f"{float(record['temperature_C']):.0f} °C · weighted loss "
+        f"{records.display('weighted_loss_W', record['weighted_loss_W'])} W"
     )
     return (
         f'<article class="sheet{" knee" if knee else ""}" '

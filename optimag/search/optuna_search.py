@@ -982,7 +982,7 @@ def custom_vs_catalogue(
         custom = None if best is None else float(custom_volume[best])
         rows.append({
             "catalogue": int(k),
-            "loss_W": float(catalogue_loss[k]),
+            "weighted_loss_W": float(catalogue_loss[k]),
             "catalogue_volume_cm3": float(catalogue_volume[k]),
             "custom": best,
             "custom_volume_cm3": custom,
@@ -1079,7 +1079,7 @@ def _custom_comparison(problem, space, candidates, position, catalogue_front, cu
     for label, rows in (("catalogue", catalogue_front), ("custom", custom_front)):
         picked = candidates.take(np.array([position[int(r)] for r in rows]))
         metrics = model.evaluate(space, picked)
-        figures[label] = (picked, metrics["volume_cm3"], metrics["total_loss_W"])
+        figures[label] = (picked, metrics["volume_cm3"], metrics["weighted_loss_W"])
     table = custom_vs_catalogue(*figures["catalogue"][1:], *figures["custom"][1:])
     ids = space.cores.ids
     for row in table:

@@ -1,22 +1,18 @@
-"""From a study to a finished run: search, front, short-list, run record, run folder."""
+"""From a study to a finished search: front, short-list, run record (the run folder is
+written by `optimag.runfolder`)."""
 
 from __future__ import annotations
 
 import difflib
-import json
 import re
-import shutil
-import time
 from dataclasses import dataclass, field
-from datetime import datetime
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from optimag import __version__, model
+from optimag import __version__, model, records
 from optimag.errors import InputError, Problem
-from optimag.report import export
 from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
 from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
 from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
@@ -98,8 +94,7 @@ def explore(study, catalog=None, top: int = DEFAULT_TOP, progress=None,
 def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
     front = outcome.front
     front_candidates = front_metrics = None
-    records: list[dict] = []
-    pareto = pd.DataFrame(columns=export.PARETO_COLUMNS)
+    pareto = pd.DataFrame(columns=records.PARETO_COLUMNS)
     shortlist_records: list[dict] = []
     if len(front):
         order = np.lexsort(front.objectives.T[::-1])
@@ -108,24 +103,24 @@ def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
         )
         front_metrics = model.evaluate(space, front_candidates)
         ids = [f"D{i + 1:04d}" for i in range(len(order))]
-        records = export.design_records(space, front_candidates, front_metrics, ids)
+        front_records = records.design_records(space, front_candidates, front_metrics, ids)
         knee = knee_index(front.objectives[order])
-        for i, rec in enumerate(records):
+        for i, rec in enumerate(front_records):
             rec["knee"] = i == knee
-        pareto = export.records_frame(records)[export.PARETO_COLUMNS]
+        pareto = records.pareto_frame(front_records)
         groups = np.column_stack([front_candidates.core, front_candidates.material,
                                   front_candidates.turns])
         picked = spread_shortlist(front.objectives[order], groups, top)
         # The knee first, then the rest in front order (sorted by the first objective).
         ranked = picked[:1] + sorted(picked[1:])
-        shortlist_records = [records[i] for i in ranked]
+        shortlist_records = [front_records[i] for i in ranked]
         for rank, rec in enumerate(shortlist_records, start=1):
             rec["rank"] = rank
     near_records = []
     if outcome.feasible == 0 and outcome.near_misses is not None:
         near_metrics = model.evaluate(space, outcome.near_misses)
         ids = [f"M{i + 1:02d}" for i in range(len(outcome.near_misses))]
-        near_records = export.design_records(space, outcome.near_misses, near_metrics, ids)
+        near_records = records.design_records(space, outcome.near_misses, near_metrics, ids)
 
     eliminated = pd.DataFrame(
         [{"constraint": k, "eliminated": v, "share": v / max(outcome.total, 1)}
@@ -176,36 +171,7 @@ def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
     }
     return ExploreResult(
         study=study, catalog=catalog, space=space, pareto=pareto,
-        shortlist=export.records_frame(shortlist_records), shortlist_records=shortlist_records,
+        shortlist=records.records_frame(shortlist_records), shortlist_records=shortlist_records,
         eliminated=eliminated, record=record, front_candidates=front_candidates,
         front_metrics=front_metrics, near_miss_records=near_records,
     )
-
-
-def default_run_dir(study, root: Path | None = None) -> Path:
-    stamp = datetime.now().strftime("%Y%m%d-%H%M%S")
-    return (root or Path("runs")) / f"{study.name}-{stamp}"
-
-
-def write_run(result: ExploreResult, run_dir: Path | None = None) -> Path:
-    """Write the run folder: study copy, run.json, pareto and short-list tables, report."""
-    run_dir = Path(run_dir) if run_dir else default_run_dir(result.study)
-    run_dir.mkdir(parents=True, exist_ok=True)
-    shutil.copyfile(result.study.path, run_dir / "study.toml")
-    started = time.perf_counter()
-    export.write_tables(run_dir, result.pareto, result.shortlist_records)
-    (run_dir / "run.json").write_text(
-        json.dumps(result.record, indent=1, default=_json_default, allow_nan=False),
-        encoding="utf-8",
-    )
-    result.record["export_time_s"] = round(time.perf_counter() - started, 4)
-    result.run_dir = run_dir
-    return run_dir
-
-
-def _json_default(value):
-    if isinstance(value, np.generic):
-        return value.item()
-    if isinstance(value, Path):
-        return str(value)
-    raise TypeError(f"not JSON serialisable: {type(value).__name__}")

@@ -289,12 +289,12 @@ def test_margin_table_limits_and_directions(run_dir: Path) -> None:
     assert table["within"].all()
     flux = table.loc["Peak flux density"]
     assert flux["share"] == pytest.approx(
-        record["margins"]["flux_T"] / record["margins"]["flux_limit_T"]
+        record["peak_flux_T"] / record["margins"]["flux_limit_T"]
     )
     assert flux["headroom"] == pytest.approx(1 - flux["share"])
     assert table.loc["Inductance kept at peak", "sense"] == "min"
 
-    record["margins"]["flux_T"] = 1.2 * record["margins"]["flux_limit_T"]
+    record["peak_flux_T"] = 1.2 * record["margins"]["flux_limit_T"]
     record["margins"]["inductance_at_peak_fraction"] = 0.5
     worse = data.margin_table(record).set_index("quantity")
     assert not worse.loc["Peak flux density", "within"]
@@ -338,11 +338,15 @@ def test_build_sheet_table(run_dir: Path, hostile: dict[str, str]) -> None:
     sheet = dict(data.build_sheet_table(knee, "EUR").itertuples(index=False, name=None))
     assert sheet["Core"] == hostile["core"]  # raw here; the page escapes it
     assert sheet["Turns"] == str(knee["turns"])
-    assert sheet["Parallel strands"] == str(knee["parallel"])
+    assert sheet["Parallel conductors"] == str(knee["parallel"])
     assert sheet["Conductors per layer"] == str(knee["winding"]["conductors_per_layer"])
     assert "Cost [EUR]" in sheet
+    assert sheet["How the gap is made"].startswith("ground centre leg")
+    assert sheet["Order: bobbin"].startswith("1 · ")
+    assert sheet["Order: core half"].startswith(f"{2 * knee['stack']} · ")
     powder = next(r for r in records.values() if r["gap_mm"] == 0)
-    assert dict(data.build_sheet_table(powder, "").values)["Air gap [mm]"].startswith("none")
+    assert dict(data.build_sheet_table(powder, "").values)["How the gap is made"].startswith(
+        "none")
 
 
 def test_near_miss_table_when_nothing_is_feasible(tmp_path: Path, make_run) -> None:

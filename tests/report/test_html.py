@@ -206,12 +206,12 @@ def test_figure_text_is_escaped_for_plotly(run_dir: Path, hostile: dict[str, str
 )
 def test_margin_figure_property(values: list[float], limits: list[float]) -> None:
     record = {
+        "peak_flux_T": values[0],
+        "temperature_C": values[1],
+        "fill_factor": values[2],
         "margins": {
-            "flux_T": values[0],
             "flux_limit_T": limits[0],
-            "temperature_C": values[1],
             "temperature_limit_C": limits[1],
-            "fill_factor": values[2],
             "fill_limit": limits[2],
             "inductance_at_peak_fraction": values[3],
             "inductance_at_peak_limit": limits[3],

@@ -64,7 +64,7 @@ def test_shortlist_is_reproducible_and_undominated(tiny_study_path):
     second = explore(tiny_study_path, top=8)
     assert len(first.pareto) > 0
     assert first.pareto.drop(columns=[]).equals(second.pareto)
-    objectives = ["volume_cm3", "total_loss_W", "cost"]
+    objectives = ["volume_cm3", "weighted_loss_W", "cost"]
     front = first.pareto[objectives].to_numpy()
     assert not dominated_by_any(front, front).any()
     # Each short-listed design evaluated alone reproduces its recorded figures.
@@ -81,7 +81,7 @@ def test_shortlist_is_reproducible_and_undominated(tiny_study_path):
         )
         metrics = model.evaluate(space, cand)
         assert metrics["feasible"][0]
-        assert metrics["total_loss_W"][0] == pytest.approx(rec["total_loss_W"], rel=1e-5)
+        assert metrics["weighted_loss_W"][0] == pytest.approx(rec["weighted_loss_W"], rel=1e-5)
         assert metrics["volume_cm3"][0] == pytest.approx(rec["volume_cm3"], rel=1e-5)
         assert metrics["cost"][0] == pytest.approx(rec["cost"], rel=1e-5)
         assert metrics["gap_m"][0] * 1e3 == pytest.approx(rec["gap_mm"], rel=1e-5, abs=1e-9)
@@ -173,7 +173,7 @@ def test_volume_and_mass_limits_cut_the_front_where_they_should(make_tiny_study)
     # front or dominated by a member of it (the limits remove designs, they add none).
     inside = (volume <= volume_limit) & (mass <= mass_limit)
     assert inside.any()
-    columns = ["volume_cm3", "total_loss_W", "cost"]
+    columns = ["volume_cm3", "weighted_loss_W", "cost"]
     new_front = cut.pareto[columns].to_numpy()
     for row in free.pareto.loc[inside, columns].to_numpy():
         assert np.any(np.all(new_front <= row * (1 + 1e-9), axis=1))

@@ -314,7 +314,7 @@ def test_custom_vs_catalogue_is_finite(volumes, losses, rnd):
                                        losses[:split] if split else losses[:n],
                                        volumes[:n], losses[:n])
     for row in rows:
-        for key in ("loss_W", "catalogue_volume_cm3"):
+        for key in ("weighted_loss_W", "catalogue_volume_cm3"):
             assert np.isfinite(row[key])
         if row["volume_ratio"] is not None:
             assert np.isfinite(row["volume_ratio"]) and row["volume_ratio"] > 0
