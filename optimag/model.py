@@ -31,6 +31,7 @@ import pandas as pd
 from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import coreloss, geometry, magnetic, sizing, thermal, winding
+from optimag.spec.waveform import current_shape_from_voltages, pulse_harmonics
 
 #: Constraint names in the order a candidate's elimination is attributed.
 CONSTRAINTS = (
@@ -265,9 +266,16 @@ class OperatingArrays:
     input_V: np.ndarray  # (K,)
     output_V: np.ndarray  # (K,)
     load_A: np.ndarray  # (K,)
+    rise_V: np.ndarray  # (K,) inductor voltage magnitude while the current rises
+    fall_V: np.ndarray  # (K,) inductor voltage magnitude while the current falls
 
     @classmethod
-    def from_waveforms(cls, waveforms) -> OperatingArrays:
+    def from_waveforms(cls, waveforms, topology: str) -> OperatingArrays:
+        from optimag.spec.waveform import inductor_voltages
+
+        rise_V, fall_V, _ = inductor_voltages(
+            topology, [w.input_V for w in waveforms], [w.output_V for w in waveforms], 0.0
+        )
         return cls(
             names=tuple(w.name for w in waveforms),
             share=np.array([w.time_share for w in waveforms], dtype=float),
@@ -281,6 +289,8 @@ class OperatingArrays:
             input_V=np.array([w.input_V for w in waveforms], dtype=float),
             output_V=np.array([w.output_V for w in waveforms], dtype=float),
             load_A=np.array([w.load_A for w in waveforms], dtype=float),
+            rise_V=np.asarray(rise_V, dtype=float),
+            fall_V=np.asarray(fall_V, dtype=float),
         )
 
     @property
@@ -377,7 +387,7 @@ def build_design_space(study, catalog) -> DesignSpace:
         cores=CoreArrays.from_frame(cores.reset_index(drop=True)),
         materials=MaterialArrays.from_frame(materials.reset_index(drop=True)),
         wires=WireArrays.from_frame(wires.reset_index(drop=True)),
-        operating=OperatingArrays.from_waveforms(waveforms),
+        operating=OperatingArrays.from_waveforms(waveforms, study.converter.topology),
         requirements=requirements,
         turns=np.arange(search.turns_min, search.turns_max + 1, dtype=np.int64),
         stacks=np.arange(search.stack_min, search.stack_max + 1, dtype=np.int64),
@@ -471,10 +481,9 @@ def magnetic_stage(
             can_gap & ~unreachable, np.minimum(inductance_violation, -1.0), inductance_violation
         )
 
-    # The converter's waveforms were derived at the required inductance; in continuous
-    # conduction the ripple scales with 1/L, so each design's own inductance at the DC
-    # current (a powder core's is rolled off by the bias) sets its ripple. Discontinuous
-    # points keep the waveform derived at the required inductance.
+    # Each design's own current at each point: its inductance at the point's average
+    # current (a powder core's rolled off by the bias) decides CCM or DCM, the conduction
+    # intervals, the ripple and the peak (Erickson & Maksimović, ch. 2 and 5).
     dc = np.broadcast_to(op.dc_A[None, :], (len(n_turns), len(op.dc_A)))
     powder_ldc = magnetic.powder_inductance(
         n_turns[:, None], dc, le[:, None], ae[:, None], mu_i[:, None],
@@ -482,10 +491,16 @@ def magnetic_stage(
         m.rolloff_c[material][:, None],
     )
     inductance_dc = np.where(powder[:, None], powder_ldc, inductance0[:, None])
-    ripple_scale = np.where(op.dcm[None, :], 1.0, req.inductance_H / inductance_dc)
-    ripple = op.ripple_A[None, :] * ripple_scale
-    peak = np.where(op.dcm[None, :], op.peak_A[None, :], dc + ripple / 2)
-    valley = np.where(op.dcm[None, :], 0.0, np.maximum(dc - ripple / 2, 0.0))
+    # An unreachable gap leaves no usable inductance; any positive stand-in keeps the
+    # arithmetic finite (the candidate is eliminated under "inductance").
+    inductance_dc = np.where(inductance_dc > 0, inductance_dc, req.inductance_H)
+    shape = current_shape_from_voltages(
+        op.rise_V[None, :], op.fall_V[None, :], dc, op.frequency_Hz, inductance_dc
+    )
+    dcm, rise, fall = shape.dcm, shape.rise_fraction, shape.fall_fraction
+    peak, valley = shape.peak_A, np.maximum(shape.valley_A, 0.0)
+    ripple = shape.ripple_pp_A
+    harmonics = pulse_harmonics(ripple, rise, fall, op.harmonics_A.shape[1])
 
     # Flux: linear (ferrite) core B = L i / (N A); powder from its roll-off law.
     h_peak = n_turns[:, None] * peak / le[:, None]
@@ -523,8 +538,8 @@ def magnetic_stage(
 
     # Core loss density by iGSE on the triangular (CCM) or three-segment (DCM) flux.
     loss_density = coreloss.igse_loss_density_triangle(
-        op.frequency_Hz, b_swing, op.rise[None, :], m.k[material][:, None],
-        m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=op.fall[None, :],
+        op.frequency_Hz, b_swing, rise, m.k[material][:, None],
+        m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=fall,
     )
     core_loss_reference = loss_density * ve[:, None]  # W at temperature factor 1
     return {
@@ -540,7 +555,10 @@ def magnetic_stage(
         "dc_current_A": dc,
         "peak_current_A": peak,
         "ripple_A": ripple,
-        "ripple_scale": ripple_scale,
+        "dcm": dcm,
+        "rise_fraction": rise,
+        "fall_fraction": fall,
+        "harmonics_A": harmonics,
         "violation_inductance": inductance_violation,
         "violation_saturation": saturation_violation,
         "violation_inductance_at_peak": peak_violation,
@@ -649,9 +667,15 @@ def winding_loss_stage(
     layout: dict[str, np.ndarray],
     core: np.ndarray,
 ) -> dict[str, np.ndarray]:
-    """DC and AC winding loss at every operating point (shape (n, K)) at the two
-    temperatures of `WINDING_REFERENCE_TEMPERATURES_C`, for windings laid out by
-    `winding_layout_stage` (row-aligned ``layout``)."""
+    """DC winding loss at every operating point (shape (n, K)) and AC resistance per
+    harmonic (shape (n, H)) at the two temperatures of `WINDING_REFERENCE_TEMPERATURES_C`,
+    for windings laid out by `winding_layout_stage` (row-aligned ``layout``).
+
+    ``winding_ac_unit_{lo,hi}_W`` (n, K) is the AC loss of a CCM triangle of 1 A peak to
+    peak at each point (its shape, the duty ratio, does not depend on the inductance); a
+    design's CCM AC loss is this times its ripple squared. `winding_ac_loss` combines these
+    with each design's own current.
+    """
     op = space.operating
     n_turns = turns.astype(float)
     n_par = parallel.astype(float)
@@ -662,7 +686,8 @@ def winding_loss_stage(
     # evaluated once per winding and weighted by each point's harmonic amplitudes.
     freq = op.frequency_Hz * np.arange(1, n_harm + 1, dtype=float)[None, :]
     dc_sq = op.dc_A**2
-    amp_sq_half = 0.5 * op.harmonics_A**2  # (K, H)
+    ccm_duty = op.fall_V / (op.rise_V + op.fall_V)
+    unit_sq_half = 0.5 * pulse_harmonics(1.0, ccm_duty, 1.0 - ccm_duty, n_harm) ** 2  # (K, H)
     # The AC factors depend on fewer axes than the winding: not on the stack, nor (round
     # wire, foil) on the turns except through the layer count. Evaluate each distinct
     # (wire, core window, conductors per layer, layers | turns, strands) case once.
@@ -676,10 +701,45 @@ def winding_loss_stage(
             layout["layers"][unique_rows], n_turns[unique_rows], n_par[unique_rows],
             breadth[unique_rows], freq, rho,
         )
-        weighted = (factors @ amp_sq_half.T)[inverse]
         rdc = layout["dc_resistance_20C_ohm"] * (rho / COPPER_RESISTIVITY_20C)
         out[f"winding_dc_{label}_W"] = rdc[:, None] * dc_sq[None, :]
-        out[f"winding_ac_{label}_W"] = rdc[:, None] * weighted
+        out[f"winding_ac_unit_{label}_W"] = rdc[:, None] * (factors @ unit_sq_half.T)[inverse]
+        out[f"harmonic_resistance_{label}_ohm"] = rdc[:, None] * factors[inverse]
+    return out
+
+
+#: Stage outputs with a harmonic axis; a search joining stage outputs leaves them out of
+#: the per-candidate gather and hands them to `winding_ac_loss` with row indices.
+HARMONIC_KEYS = ("harmonics_A", "harmonic_resistance_lo_ohm", "harmonic_resistance_hi_ohm")
+
+
+def winding_ac_loss(
+    mag: dict[str, np.ndarray],
+    mag_rows: np.ndarray,
+    wdg: dict[str, np.ndarray],
+    wdg_rows: np.ndarray,
+    block: int = 65_536,
+) -> dict[str, np.ndarray]:
+    """AC winding loss (n, K) at both reference temperatures of the candidates joining
+    magnetic row ``mag_rows[i]`` with winding row ``wdg_rows[i]``.
+
+    CCM: the unit-ripple loss times the design's ripple squared (the triangle's shape is
+    fixed by the duty ratio). DCM: the sum over harmonics of R_n c_n^2 / 2 with the design's
+    own harmonic amplitudes c_n (`pulse_harmonics`), as the shape changes with D1 and D2.
+    """
+    ripple_sq = mag["ripple_A"][mag_rows] ** 2
+    dcm = mag["dcm"][mag_rows]
+    out = {}
+    for label in ("lo", "hi"):
+        loss = wdg[f"winding_ac_unit_{label}_W"][wdg_rows] * ripple_sq
+        resistance = wdg[f"harmonic_resistance_{label}_ohm"]
+        for k in np.flatnonzero(dcm.any(axis=0)):
+            rows = np.flatnonzero(dcm[:, k])
+            for start in range(0, rows.size, block):
+                sel = rows[start:start + block]
+                amp = mag["harmonics_A"][mag_rows[sel], k, :]
+                loss[sel, k] = 0.5 * np.einsum("ih,ih->i", resistance[wdg_rows[sel]], amp * amp)
+        out[f"winding_ac_{label}_W"] = loss
     return out
 
 
@@ -740,10 +800,8 @@ def loss_quadratic(space: DesignSpace, material: np.ndarray, mag: dict, wdg: dic
     m = space.materials
     t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
     core_ref = mag["core_loss_reference_W"]
-    # Harmonic amplitudes, and so AC winding loss, scale with the design's ripple.
-    ac_scale = mag["ripple_scale"] ** 2
-    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"] * ac_scale
-    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"] * ac_scale
+    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"]
+    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"]
     slope = (wind_hi - wind_lo) / (t_hi - t_lo)
     a0 = core_ref * m.ct0[material][:, None] + wind_lo - slope * t_lo
     a1 = -core_ref * m.ct1[material][:, None] + slope
@@ -812,7 +870,7 @@ def combine_stage(
     dc_loss = wdg["winding_dc_lo_W"] + fraction * (wdg["winding_dc_hi_W"] - wdg["winding_dc_lo_W"])
     ac_loss = (
         wdg["winding_ac_lo_W"] + fraction * (wdg["winding_ac_hi_W"] - wdg["winding_ac_lo_W"])
-    ) * mag["ripple_scale"] ** 2
+    )
     point_loss = core_loss + dc_loss + ac_loss
     weighted_loss = point_loss @ op.share
     worst_t = temperature.max(axis=1)
@@ -895,6 +953,8 @@ def evaluate(space: DesignSpace, candidates: Candidates) -> dict[str, np.ndarray
     wdg = winding_layout_stage(space, cand.core, cand.stack, cand.turns, cand.wire,
                                cand.parallel)
     wdg.update(winding_loss_stage(space, cand.turns, cand.wire, cand.parallel, wdg, cand.core))
+    rows = np.arange(len(cand))
+    wdg.update(winding_ac_loss(mag, rows, wdg, rows))
     final = combine_stage(space, cand.material, cand.stack, cand.core, cand.turns, mag, wdg)
     metrics = {**mag, **wdg, **final}
     violations = violations_matrix(metrics)

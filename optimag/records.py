@@ -93,8 +93,9 @@ register(
     _f("operating_point", "", "Operating point",
        "The operating point the record's point figures are taken at: the hottest one",
        None, "text"),
-    _f("dcm", "", "DCM", "True when the converter runs discontinuous at the point",
-       None, "text"),
+    _f("dcm", "", "DCM",
+       "True when this design's current is discontinuous at the point (decided by its own "
+       "inductance)", None, "text"),
     # --- magnetic -----------------------------------------------------------------
     _f("gap_mm", "mm", "Air gap",
        "Total air gap of the magnetic path, cut in the leg the winding sits on; 0 for "
@@ -199,7 +200,13 @@ register(
        "point"),
     _f("ripple_A", "A", "Ripple", "Peak-to-peak ripple at this design's inductance", 3,
        "point"),
-    _f("duty", "", "Rise fraction", "Share of the period the current rises", 3, "point"),
+    _f("duty", "", "Rise fraction",
+       "Share of the period this design's current rises (D1)", 3, "point"),
+    _f("fall_fraction", "", "Fall fraction",
+       "Share of the period this design's current falls (D2; 1 - D1 in CCM)", 3, "point"),
+    _f("idle_fraction", "", "Idle fraction",
+       "Share of the period this design's current stays at zero (1 - D1 - D2; 0 in CCM)",
+       3, "point"),
     _f("input_V", "V", "Input voltage", "Converter input voltage at the point", 3, "point"),
     _f("output_V", "V", "Output voltage", "Converter output voltage at the point", 3,
        "point"),
@@ -269,7 +276,8 @@ POINT_FIELDS = (
 INPUT_FIELDS = (
     "input_V", "output_V", "load_A", "Ae_mm2", "Amin_mm2", "le_mm", "Ve_mm3", "mu_r",
     "window_breadth_mm", "mlt_mm", "copper_area_mm2", "dc_resistance_mOhm",
-    "frequency_kHz", "dc_current_A", "ripple_A", "duty", "steinmetz_k", "steinmetz_alpha",
+    "frequency_kHz", "dc_current_A", "ripple_A", "duty", "fall_fraction", "idle_fraction",
+    "steinmetz_k", "steinmetz_alpha",
     "steinmetz_beta", "core_loss_temperature_factor",
 )
 
@@ -478,7 +486,11 @@ def _inputs(space, candidates, metrics, details, i: int, k: int) -> dict:
         "frequency_kHz": float(op.frequency_Hz / 1e3),
         "dc_current_A": float(metrics["dc_current_A"][i, k]),
         "ripple_A": float(metrics["ripple_A"][i, k]),
-        "duty": float(op.rise[k]),
+        "duty": float(metrics["rise_fraction"][i, k]),
+        "fall_fraction": float(metrics["fall_fraction"][i, k]),
+        "idle_fraction": float(
+            max(0.0, 1.0 - metrics["rise_fraction"][i, k] - metrics["fall_fraction"][i, k])
+        ),
         "steinmetz_k": float(m.k[mat]),
         "steinmetz_alpha": float(m.alpha[mat]),
         "steinmetz_beta": float(m.beta[mat]),
@@ -506,7 +518,7 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
             "temperature_C": (
                 None if metrics["runaway"][i, k] else float(metrics["temperature_C"][i, k])
             ),
-            "dcm": bool(op.dcm[k]),
+            "dcm": bool(metrics["dcm"][i, k]),
             "inputs": _inputs(space, candidates, metrics, details, i, k),
         })
     at = per_point[hot]

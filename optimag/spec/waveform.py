@@ -316,12 +316,52 @@ def inductor_current_shape(
     doi:10.1007/978-3-030-43881-4
     """
     rise_V, fall_V, average_A = inductor_voltages(topology, input_V, output_V, load_A)
+    return current_shape_from_voltages(rise_V, fall_V, average_A, frequency_Hz, inductance_H)
+
+
+def current_shape_from_voltages(
+    rise_V: ArrayLike,
+    fall_V: ArrayLike,
+    average_A: ArrayLike,
+    frequency_Hz: ArrayLike,
+    inductance_H: ArrayLike,
+) -> InductorCurrentShape:
+    """Inductor current of any of the three converters from its inductor voltages, CCM or DCM.
+
+    Parameters
+    ----------
+    rise_V : array_like  Magnitude of the inductor voltage while the current rises, > 0 [V]
+    fall_V : array_like  Magnitude of the inductor voltage while the current falls, > 0 [V]
+    average_A : array_like  Average inductor current the load demands, >= 0 [A]
+    frequency_Hz : array_like  Switching frequency, > 0 [Hz]
+    inductance_H : array_like  Inductance, > 0 [H]
+
+    Returns
+    -------
+    InductorCurrentShape  Arrays in the broadcast shape of the inputs.
+
+    Notes
+    -----
+    The relations of `inductor_current_shape`, written on ``V_r``, ``V_f`` and ``I_L``
+    (see `inductor_voltages` for each topology), so that a search can evaluate every
+    design's own inductance at every operating point in one call: conduction is
+    discontinuous where ``V_r D / (2 L f) > I_L`` with ``D = V_f / (V_r + V_f)``, and
+    then ``D_1 = sqrt(2 L f I_L V_f / (V_r (V_r + V_f)))``, ``D_2 = D_1 V_r / V_f``,
+    ``I_pk = V_r D_1 / (L f)`` (Erickson & Maksimović, ch. 5).
+
+    References
+    ----------
+    R. W. Erickson and D. Maksimović, *Fundamentals of Power Electronics*, 3rd ed.,
+    Springer, 2020, ch. 2 (steady-state CCM) and ch. 5 (discontinuous conduction mode).
+    doi:10.1007/978-3-030-43881-4
+    """
     frequency = np.asarray(frequency_Hz, dtype=float)
     inductance = np.asarray(inductance_H, dtype=float)
     if not (np.all(frequency > 0) and np.all(inductance > 0)):
         raise ValueError("frequency_Hz and inductance_H must be > 0")
     rise_V, fall_V, average_A, frequency, inductance = np.broadcast_arrays(
-        rise_V, fall_V, average_A, frequency, inductance
+        np.asarray(rise_V, dtype=float), np.asarray(fall_V, dtype=float),
+        np.asarray(average_A, dtype=float), frequency, inductance,
     )
 
     ccm_duty = fall_V / (rise_V + fall_V)
@@ -349,6 +389,57 @@ def inductor_current_shape(
     )
 
 
+def pulse_harmonics(
+    ripple_pp_A: ArrayLike, rise_fraction: ArrayLike, fall_fraction: ArrayLike, harmonics: int
+) -> NDArray[np.float64]:
+    """Fourier amplitudes of a triangle followed by a flat interval (CCM or DCM current).
+
+    Parameters
+    ----------
+    ripple_pp_A : array_like  Peak-to-peak amplitude, >= 0 [A]
+    rise_fraction : array_like  Fraction of the period the wave rises, D1 in (0, 1] [-]
+    fall_fraction : array_like  Fraction of the period it falls, D2 in (0, 1 - D1]; the rest
+        of the period is flat (``D1 + D2 = 1``: the CCM triangle) [-]
+    harmonics : int  Number of harmonics H, >= 1 [-]
+
+    Returns
+    -------
+    ndarray  Amplitudes c_n for n = 1..H on a new last axis [A]
+
+    Notes
+    -----
+    The wave is continuous and piecewise linear, so its second derivative is a train of
+    impulses of the slope changes ``Δs_j`` at the vertices ``t_j`` and
+    ``X_n = -Σ_j Δs_j e^{-j n ω t_j} / (T (n ω)^2)``. With ``θ = 2 π n``, vertices at
+    ``0, D1 T, (D1 + D2) T`` and slope changes ``ΔI / (D1 T)``,
+    ``-ΔI (D1 + D2) / (D1 D2 T)``, ``ΔI / (D2 T)``:
+
+    .. math:: c_n = \\frac{2 ΔI}{θ^2} \\left| \\frac{1}{D_1}
+              - \\frac{D_1 + D_2}{D_1 D_2} e^{-jθ D_1}
+              + \\frac{1}{D_2} e^{-jθ (D_1 + D_2)} \\right|
+
+    For ``D1 + D2 = 1`` this is `triangle_harmonics`.
+
+    References
+    ----------
+    A. V. Oppenheim, A. S. Willsky and S. H. Nawab, *Signals and Systems*, 2nd ed.,
+    Prentice Hall, 1997, ch. 3 (Fourier series; differentiation property).
+    """
+    if int(harmonics) < 1:
+        raise ValueError("harmonics must be >= 1")
+    ripple = np.asarray(ripple_pp_A, dtype=float)[..., np.newaxis]
+    d1 = np.asarray(rise_fraction, dtype=float)[..., np.newaxis]
+    d2 = np.asarray(fall_fraction, dtype=float)[..., np.newaxis]
+    if not (np.all(d1 > 0) and np.all(d2 > 0) and np.all(d1 + d2 <= 1.0 + 1e-12)):
+        raise ValueError("need rise_fraction > 0, fall_fraction > 0 and their sum <= 1")
+    theta = 2.0 * np.pi * np.arange(1, int(harmonics) + 1, dtype=float)
+    a1, a2 = theta * d1, theta * (d1 + d2)
+    s = (d1 + d2) / (d1 * d2)
+    real = 1.0 / d1 - s * np.cos(a1) + np.cos(a2) / d2
+    imag = s * np.sin(a1) - np.sin(a2) / d2
+    return 2.0 * ripple * np.hypot(real, imag) / theta**2
+
+
 def triangle_harmonics(
     ripple_pp_A: ArrayLike, rise_fraction: ArrayLike, harmonics: int
 ) -> NDArray[np.float64]:
@@ -367,7 +458,7 @@ def triangle_harmonics(
 
     Notes
     -----
-    .. math:: c_n = \\frac{ΔI \\, |\\sin(π n D)|}{π^2 n^2 D (1 - D)}
+    .. math:: c_n = \\\frac{ΔI \\, |\\sin(π n D)|}{π^2 n^2 D (1 - D)}
 
     Written as ``ΔI |sinc(n m)| / (π n (1 - m))`` with ``m = min(D, 1 - D)`` (the
     spectrum is symmetric in D and 1 - D), which is finite at D = 0 and D = 1 where

@@ -107,7 +107,7 @@ def build_space() -> model.DesignSpace:
         cores=model.CoreArrays.from_frame(random_cores(40)),
         materials=model.MaterialArrays.from_frame(random_materials()),
         wires=model.WireArrays.from_frame(random_wires()),
-        operating=model.OperatingArrays.from_waveforms(waves),
+        operating=model.OperatingArrays.from_waveforms(waves, "buck"),
         requirements=requirements,
         turns=np.arange(1, 101), stacks=np.arange(1, 4), parallels=np.arange(1, 5),
         gap_grid_m=None,
