@@ -87,6 +87,8 @@ def explore(study, catalog=None, top: int = DEFAULT_TOP, progress=None,
     space = model.build_design_space(study, catalog)
     objectives = list(study.search.objectives)
     kwargs = {"chunk_size": chunk_size} if chunk_size else {}
+    if study.search.robust:
+        kwargs["robust"] = study.tolerance
     outcome = explore_exhaustive(space, objectives, progress=progress, **kwargs)
     return _assemble(study, catalog, space, objectives, outcome, top)
 

@@ -40,6 +40,7 @@ from pydantic import (
 
 from optimag.errors import InputError, Problem
 from optimag.spec.custom_core import CustomCore
+from optimag.spec.tolerance import ToleranceSpec
 from optimag.spec.waveform import ccm_ripple_inductance
 
 # Strict numbers: TOML already types its values, so "12" must stay an error rather than
@@ -154,6 +155,8 @@ class Search(_Section):
     seed: Annotated[int, Strict(), Field(ge=0)] = 0
     sampler: Literal["nsga2", "tpe"] = "nsga2"
     batch_size: Count = 64
+    #: Keep only designs that meet every limit at every tolerance corner ([tolerance]).
+    robust: Annotated[bool, Strict()] = False
 
 
 class CatalogRef(_Section):
@@ -217,6 +220,7 @@ class Study(_Section):
     model: ModelChoices = ModelChoices()
     cost: Cost = Cost()
     custom_core: CustomCore | None = None
+    tolerance: ToleranceSpec = ToleranceSpec()
 
     _path: Path | None = PrivateAttr(default=None)
     _source_text: str = PrivateAttr(default="")
@@ -305,6 +309,7 @@ _SECTION_MODELS: dict[str, type[_Section]] = {
     "model": ModelChoices,
     "cost": Cost,
     "custom_core": CustomCore,
+    "tolerance": ToleranceSpec,
 }
 _REQUIRED_SECTIONS = ("study", "converter", "operating_points", "search", "catalog")
 
@@ -486,6 +491,10 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
                     f"(within {TIME_SHARE_TOLERANCE:g})",
                 )
             )
+
+    if search and search.robust and search.strategy != "exhaustive":
+        faults.append(("search.robust", "the robust search (tolerance corners inside the "
+                       "search) runs with strategy = \"exhaustive\""))
 
     if points and converter:
         for index, point in enumerate(points):
