@@ -175,3 +175,13 @@ def test_imports_point_down(package, forbidden):
         bad = [name for name in _imports(path)
                if any(name == f or name.startswith(f + ".") for f in forbidden)]
         assert bad == [], f"{path.relative_to(ROOT)} imports {bad}"
+
+
+def test_hand_procedure_is_reported_beside_the_front(run):
+    from optimag.report import data
+
+    _, folder = run
+    table = data.hand_sizing_table(data.load_run(folder))
+    assert len(table) >= 1
+    assert table["standing"].str.len().min() > 0
+    assert (table["area_product_cm4"] >= table["area_product_required_cm4"]).all()

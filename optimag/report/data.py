@@ -692,6 +692,35 @@ def custom_comparison_table(run: RunData) -> pd.DataFrame:
     return pd.DataFrame([{c: row.get(c) for c in columns} for row in rows], columns=columns)
 
 
+def hand_sizing_table(run: RunData) -> pd.DataFrame:
+    """The hand procedure's design per ferrite material (run.json ``hand_sizing``) with
+    its objectives and where it stands against the front; empty when the run has none."""
+    columns = [
+        "design_id", "material", "area_product_required_cm4", "first_core", "core", "stack",
+        "area_product_cm4", "turns", "gap_mm", "wire", "parallel", "volume_cm3",
+        "weighted_loss_W", "cost", "mass_g", "feasible", "worst_constraint",
+        "front_designs_beating_it", "standing",
+    ]
+    rows = []
+    for entry in (run.meta.get("hand_sizing") or {}).get("designs") or []:
+        rec = entry["record"]
+        beaten = int(entry.get("front_designs_beating_it") or 0)
+        if not rec.get("feasible", False):
+            standing = f"breaks {entry.get('worst_constraint') or rec.get('worst_constraint')}"
+        elif beaten:
+            standing = f"{beaten} front design(s) beat it on every objective"
+        else:
+            standing = "meets the front: no front design beats it"
+        row = {c: rec.get(c) for c in columns}
+        first = f"{entry.get('first_core')}"
+        if int(entry.get("first_stack") or 1) > 1:
+            first += f" ×{int(entry['first_stack'])}"
+        row.update(first_core=first, worst_constraint=entry.get("worst_constraint"),
+                   front_designs_beating_it=beaten, standing=standing)
+        rows.append(row)
+    return pd.DataFrame(rows, columns=columns)
+
+
 def header_facts(run: RunData) -> list[tuple[str, str]]:
     """Label/value pairs for the page header (strings, not yet escaped)."""
     meta = run.meta

@@ -80,11 +80,14 @@ def _groups(front: pd.DataFrame) -> list[tuple[str, str, pd.DataFrame]]:
     ]
 
 
-def tradeoff_pair_figure(front: pd.DataFrame, view: PairView, currency: str) -> go.Figure:
+def tradeoff_pair_figure(
+    front: pd.DataFrame, view: PairView, currency: str, hand: pd.DataFrame | None = None
+) -> go.Figure:
     """Front designs in one objective pair: colour = material, symbol = core family.
 
     The dotted staircase joins the designs that stay non-dominated in this pair; the
-    knee design wears an ochre ring.
+    knee design wears an ochre ring. ``hand``: designs of the hand procedure that meet
+    every limit, drawn as crosses.
     """
     colours = style.material_colour_map(list(front["material"]))
     traces: list[Any] = []
@@ -134,6 +137,27 @@ def tradeoff_pair_figure(front: pd.DataFrame, view: PairView, currency: str) -> 
                 },
                 customdata=_hover_data(knee, currency),
                 hovertemplate=_HOVER,
+            )
+        )
+    if hand is not None and len(hand):
+        traces.append(
+            go.Scatter(
+                x=hand[view.x_column],
+                y=hand[view.y_column],
+                mode="markers+text",
+                name="hand procedure (area product)",
+                text=[plot_text(v) for v in hand["design_id"]],
+                textposition="top right",
+                marker={"symbol": "x-thin-open", "size": 14, "color": style.INK,
+                        "line": {"width": 2, "color": style.INK}},
+                customdata=np.column_stack(
+                    [hand["design_id"].map(plot_text), hand["core"].map(plot_text),
+                     hand["material"].map(plot_text)]
+                ),
+                hovertemplate=(
+                    "<b>%{customdata[0]}</b> by the hand procedure<br>"
+                    "core %{customdata[1]} · %{customdata[2]}<extra></extra>"
+                ),
             )
         )
     return _styled(

@@ -194,10 +194,14 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
         return _section(
             1, "tradeoff", "Trade-off map", "Nothing reached the front in this run.", body
         )
+    hand = data.hand_sizing_table(run)
+    hand_on_map = hand[hand["feasible"].astype(bool)] if len(hand) else None
     cards = [
         _card(
             f"{view.y_title} against {view.x_title}",
-            slots.render(figures.tradeoff_pair_figure(front, view, run.currency), "pair"),
+            slots.render(
+                figures.tradeoff_pair_figure(front, view, run.currency, hand_on_map), "pair"
+            ),
             f"{len(view.front_ids)} of {len(front)} front designs stay unbeaten in this pair "
             "of objectives (dotted staircase).",
         )
@@ -214,7 +218,10 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
                 "Drag to turn the view; hover a point for its figures.",
             )
         )
-    body = f'<div class="grid">{"".join(cards)}</div>' + _custom_comparison(run)
+    body = (
+        f'<div class="grid">{"".join(cards)}</div>' + _hand_sizing(run, hand)
+        + _custom_comparison(run)
+    )
     lede = (
         f"Each point is a design no other design beats on every objective at once "
         f"({', '.join(run.objectives)}). Colour shows the core material, marker shape the "
@@ -225,6 +232,42 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
 
 def _number(value: Any, fmt: str) -> str:
     return "—" if value is None or pd.isna(value) else format(float(value), fmt)
+
+
+def _hand_sizing(run: data.RunData, table: pd.DataFrame) -> str:
+    """The classic area-product procedure on this study, beside the front."""
+    if table.empty:
+        return ""
+    meta = run.meta.get("hand_sizing") or {}
+    cost = records.header("cost", run.currency)
+    inner = _table(
+        ["Design", "Material", records.header("area_product_required_cm4"),
+         "Smallest core meeting Ap", "Core used", records.header("area_product_cm4"),
+         "Turns", records.header("gap_mm"), "Wire", records.header("volume_cm3"),
+         records.header("weighted_loss_W"), cost, "Against the front"],
+        (
+            [r.design_id, r.material,
+             records.display("area_product_required_cm4", r.area_product_required_cm4),
+             r.first_core, f"{r.core}" + (f" ×{int(r.stack)}" if int(r.stack) > 1 else ""),
+             records.display("area_product_cm4", r.area_product_cm4), int(r.turns),
+             records.display("gap_mm", r.gap_mm), f"{r.wire} ×{int(r.parallel)}",
+             records.display("volume_cm3", r.volume_cm3),
+             records.display("weighted_loss_W", r.weighted_loss_W),
+             records.display("cost", r.cost), r.standing]
+            for r in table.itertuples(index=False)
+        ),
+        [False, False, True, False, False, True, True, True, False, True, True, True, False],
+    )
+    note = (
+        f"Method: {meta.get('method', '')}; J = {meta.get('current_density_A_per_mm2', '')} "
+        f"A/mm², Ku = {meta.get('window_utilisation', '')} (the study's fill limit). Each "
+        "hand design is evaluated with the same model as the search; those that meet every "
+        "limit are drawn as crosses on the maps above."
+    )
+    skipped = meta.get("no_core_large_enough") or []
+    if skipped:
+        note += f" No catalogue core meets Ap for: {', '.join(map(str, skipped))}."
+    return _card("The hand procedure on this study (area product)", inner, note, spaced=True)
 
 
 def _custom_comparison(run: data.RunData) -> str:

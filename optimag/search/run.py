@@ -14,6 +14,7 @@ import pandas as pd
 from optimag import __version__, model, records
 from optimag.errors import InputError, Problem
 from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
+from optimag.search.hand import hand_sizing
 from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
 from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
 
@@ -170,6 +171,9 @@ def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
         ],
         "currency": study.cost.currency,
         "near_misses": near_records,
+        "hand_sizing": hand_sizing(
+            space, objectives, front.objectives if len(front) else None
+        ),
     }
     return ExploreResult(
         study=study, catalog=catalog, space=space, pareto=pareto,
