@@ -1043,7 +1043,8 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
         near_miss_violation=near_violation, wall_time_s=counts.wall_time_s,
         interrupted=counts.interrupted, stage_sizes={},
     )
-    result = _assemble(problem.study, problem.catalog, space, problem.objectives, outcome, top)
+    result = _assemble(problem.study, problem.catalog, space, problem.objectives, outcome, top,
+                       catalogue_space=problem.space)
 
     record = result.record
     record["strategy"] = "optuna"

@@ -94,7 +94,10 @@ def explore(study, catalog=None, top: int = DEFAULT_TOP, progress=None,
     return _assemble(study, catalog, space, objectives, outcome, top)
 
 
-def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
+def _assemble(study, catalog, space, objectives, outcome, top,
+              catalogue_space=None) -> ExploreResult:
+    """Front, short-list, records and run record of a finished search. ``catalogue_space``
+    (default ``space``) holds the catalogue's cores only, for the hand procedure."""
     front = outcome.front
     front_candidates = front_metrics = None
     pareto = pd.DataFrame(columns=records.PARETO_COLUMNS)
@@ -172,7 +175,7 @@ def _assemble(study, catalog, space, objectives, outcome, top) -> ExploreResult:
         "currency": study.cost.currency,
         "near_misses": near_records,
         "hand_sizing": hand_sizing(
-            space, objectives, front.objectives if len(front) else None
+            catalogue_space or space, objectives, front.objectives if len(front) else None
         ),
     }
     return ExploreResult(
