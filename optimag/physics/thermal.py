@@ -247,6 +247,541 @@ def radiation_coefficient(
     return _radiation_h(surface_C, ambient_C, emissivity)
 
 
+# --------------------------------------------------------------------------- air and faces
+
+#: Properties of air at atmospheric pressure against temperature: T [K], kinematic
+#: viscosity nu [m^2/s], conductivity k [W/(m K)], diffusivity alpha [m^2/s], Prandtl number
+#: [-]. Incropera, DeWitt, Bergman, Lavine, Fundamentals of Heat and Mass Transfer, 6th ed.,
+#: Wiley, 2007, Table A.4 (values from memory; tests/data/incropera_air_table_a4.json holds
+#: the copy the tests check against the book's worked examples).
+AIR_TABLE = np.array(
+    [
+        [250.0, 11.44e-6, 22.3e-3, 15.9e-6, 0.720],
+        [300.0, 15.89e-6, 26.3e-3, 22.5e-6, 0.707],
+        [350.0, 20.92e-6, 30.0e-3, 29.9e-6, 0.700],
+        [400.0, 26.41e-6, 33.8e-3, 38.3e-6, 0.690],
+        [450.0, 32.39e-6, 37.3e-3, 47.2e-6, 0.686],
+        [500.0, 38.79e-6, 40.7e-3, 56.7e-6, 0.684],
+        [600.0, 52.69e-6, 46.9e-3, 76.9e-6, 0.685],
+    ]
+)
+
+#: Standard acceleration of gravity [m/s^2] (ISO 80000-3).
+GRAVITY = 9.80665
+
+#: Published validity range of each correlation, in its own dimensionless number, declared
+#: once: (low, high). Rayleigh numbers unless the name says Reynolds; "air_film_K" is the
+#: span of the air table [K].
+CORRELATION_RANGES: dict[str, tuple[float, float]] = {
+    # Churchill & Chu 1975, all Ra: their correlated data span 1e-1..1e12 (from memory).
+    "vertical_churchill_chu": (1e-1, 1e12),
+    # Churchill & Chu laminar form, Incropera eq. 9.27: Ra <= 1e9.
+    "vertical_churchill_chu_laminar": (1e-1, 1e9),
+    # Lloyd & Moran / Goldstein, upper surface of a hot plate, Incropera eqs. 9.30-9.31.
+    "upper_hot_lloyd_moran": (1e4, 1e11),
+    # Raithby & Hollands thin-layer form for upward-facing plates: Ra from about 1 (from
+    # memory), used below the Lloyd-Moran range.
+    "upper_hot_raithby_hollands": (1.0, 1e4),
+    # Lower surface of a hot plate, Incropera 6th ed. eq. 9.32.
+    "lower_hot_surface": (1e5, 1e10),
+    # Laminar flat plate, Incropera eq. 7.30: Re_L below the transition Reynolds number.
+    "flat_plate_laminar_reynolds": (0.0, 5e5),
+    "air_film_K": (250.0, 600.0),
+}
+
+
+class AirProperties(NamedTuple):
+    """Properties of air at a temperature (see `air_properties`)."""
+
+    kinematic_viscosity_m2_s: FloatArray
+    conductivity_W_mK: FloatArray
+    diffusivity_m2_s: FloatArray
+    prandtl: FloatArray
+
+
+def air_properties(temperature_K: ArrayLike) -> AirProperties:
+    """Properties of dry air at atmospheric pressure, interpolated linearly in `AIR_TABLE`.
+
+    Parameters
+    ----------
+    temperature_K : array_like
+        Air (film) temperature; held at the table's ends outside 250..600 K [K]
+
+    Returns
+    -------
+    properties : AirProperties
+        Kinematic viscosity [m^2/s], conductivity [W/(m K)], diffusivity [m^2/s], Prandtl
+        number [-]
+
+    References
+    ----------
+    F. P. Incropera, D. P. DeWitt, T. L. Bergman, A. S. Lavine, Fundamentals of Heat and
+    Mass Transfer, 6th ed., Wiley, 2007, Table A.4 (from memory).
+    """
+    t = np.asarray(temperature_K, dtype=float)
+    table = AIR_TABLE
+    return AirProperties(*(np.interp(t, table[:, 0], table[:, j]) for j in range(1, 5)))
+
+
+def rayleigh_number(
+    delta_T_K: ArrayLike, length_m: ArrayLike, film_K: ArrayLike
+) -> FloatArray:
+    """Rayleigh number of a surface in air, Ra = g beta dT L^3 / (nu alpha), beta = 1/T_f.
+
+    Parameters
+    ----------
+    delta_T_K : array_like
+        Surface-to-air temperature difference, >= 0 [K]
+    length_m : array_like
+        Characteristic length of the surface [m]
+    film_K : array_like
+        Film temperature, the mean of surface and air [K]
+
+    Returns
+    -------
+    rayleigh : ndarray
+        Rayleigh number [-]
+
+    References
+    ----------
+    Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., eq. 9.25 (ideal gas:
+    beta = 1/T).
+    """
+    air = air_properties(film_K)
+    film = np.asarray(film_K, dtype=float)
+    return (
+        GRAVITY
+        / film
+        * np.maximum(np.asarray(delta_T_K, dtype=float), 0.0)
+        * np.asarray(length_m, dtype=float) ** 3
+        / (air.kinematic_viscosity_m2_s * air.diffusivity_m2_s)
+    )
+
+
+def _prandtl_factor(prandtl: ArrayLike, power: float) -> FloatArray:
+    return (1.0 + (0.492 / np.asarray(prandtl)) ** (9.0 / 16.0)) ** power
+
+
+def nusselt_vertical_plate(rayleigh: ArrayLike, prandtl: ArrayLike) -> FloatArray:
+    """Mean Nusselt number of an isothermal vertical plate, all Rayleigh numbers.
+
+    Parameters
+    ----------
+    rayleigh : array_like
+        Rayleigh number on the plate height [-]
+    prandtl : array_like
+        Prandtl number of the fluid [-]
+
+    Returns
+    -------
+    nusselt : ndarray
+        Mean Nusselt number on the plate height [-]
+
+    Notes
+    -----
+    .. math::
+
+        \\overline{Nu}_L = \\left\\{0.825 + \\frac{0.387\\, Ra_L^{1/6}}
+        {[1 + (0.492/Pr)^{9/16}]^{8/27}}\\right\\}^2
+
+    Range: `CORRELATION_RANGES["vertical_churchill_chu"]`.
+
+    References
+    ----------
+    S. W. Churchill, H. H. S. Chu, Correlating equations for laminar and turbulent free
+    convection from a vertical plate, Int. J. Heat Mass Transfer 18 (1975) 1323-1329;
+    Incropera et al., 6th ed., eq. 9.26.
+    """
+    ra = np.maximum(np.asarray(rayleigh, dtype=float), 0.0)
+    return (0.825 + 0.387 * ra ** (1.0 / 6.0) / _prandtl_factor(prandtl, 8.0 / 27.0)) ** 2
+
+
+def nusselt_vertical_plate_laminar(rayleigh: ArrayLike, prandtl: ArrayLike) -> FloatArray:
+    """Mean Nusselt number of an isothermal vertical plate, laminar form (Ra <= 1e9).
+
+    Parameters
+    ----------
+    rayleigh : array_like
+        Rayleigh number on the plate height [-]
+    prandtl : array_like
+        Prandtl number of the fluid [-]
+
+    Returns
+    -------
+    nusselt : ndarray
+        Mean Nusselt number [-]
+
+    Notes
+    -----
+    .. math::
+
+        \\overline{Nu}_L = 0.68 + \\frac{0.670\\, Ra_L^{1/4}}{[1 + (0.492/Pr)^{9/16}]^{4/9}}
+
+    References
+    ----------
+    Churchill & Chu 1975; Incropera et al., 6th ed., eq. 9.27.
+    """
+    ra = np.maximum(np.asarray(rayleigh, dtype=float), 0.0)
+    return 0.68 + 0.670 * ra**0.25 / _prandtl_factor(prandtl, 4.0 / 9.0)
+
+
+def nusselt_upper_hot_surface(rayleigh: ArrayLike) -> FloatArray:
+    """Mean Nusselt number of the upper surface of a hot horizontal plate.
+
+    Parameters
+    ----------
+    rayleigh : array_like
+        Rayleigh number on the length L = A / P (area over perimeter) [-]
+
+    Returns
+    -------
+    nusselt : ndarray
+        Mean Nusselt number on L [-]
+
+    Notes
+    -----
+    .. math::
+
+        \\overline{Nu}_L = 0.54\\, Ra_L^{1/4} \\ (10^4 \\le Ra_L \\le 10^7), \\quad
+        0.15\\, Ra_L^{1/3} \\ (10^7 \\le Ra_L \\le 10^{11})
+
+    References
+    ----------
+    J. R. Lloyd, W. R. Moran, Natural convection adjacent to horizontal surfaces of various
+    planforms, ASME J. Heat Transfer 96 (1974); R. J. Goldstein, E. M. Sparrow, D. C. Jones,
+    Int. J. Heat Mass Transfer 16 (1973); Incropera et al., 6th ed., eqs. 9.30-9.31.
+    """
+    ra = np.maximum(np.asarray(rayleigh, dtype=float), 0.0)
+    return np.where(ra < 1e7, 0.54 * ra**0.25, 0.15 * np.cbrt(ra))
+
+
+def nusselt_upper_hot_surface_low_rayleigh(
+    rayleigh: ArrayLike, prandtl: ArrayLike
+) -> FloatArray:
+    """Mean Nusselt number of an upward-facing hot plate at small Rayleigh numbers.
+
+    Parameters
+    ----------
+    rayleigh : array_like
+        Rayleigh number on the length L = A / P [-]
+    prandtl : array_like
+        Prandtl number [-]
+
+    Returns
+    -------
+    nusselt : ndarray
+        Mean Nusselt number on L [-]
+
+    Notes
+    -----
+    The thin-layer value is corrected for the thick boundary layer of small plates:
+
+    .. math::
+
+        Nu_T = 0.835\\, \\bar C_l\\, Ra^{1/4}, \\quad
+        \\bar C_l = \\frac{0.671}{[1 + (0.492/Pr)^{9/16}]^{4/9}}, \\quad
+        Nu = \\frac{1.4}{\\ln(1 + 1.4 / Nu_T)}
+
+    (the turbulent branch 0.14 Ra^{1/3} does not matter below Ra = 1e4). Used below the
+    Lloyd-Moran range; range `CORRELATION_RANGES["upper_hot_raithby_hollands"]`.
+
+    References
+    ----------
+    G. D. Raithby, K. G. T. Hollands, Natural convection, in W. M. Rohsenow, J. P. Hartnett,
+    Y. I. Cho (eds.), Handbook of Heat Transfer, 3rd ed., McGraw-Hill, 1998, ch. 4 (form and
+    constants from memory).
+    """
+    ra = np.maximum(np.asarray(rayleigh, dtype=float), 1e-12)
+    thin = 0.835 * 0.671 / _prandtl_factor(prandtl, 4.0 / 9.0) * ra**0.25
+    return 1.4 / np.log1p(1.4 / thin)
+
+
+def nusselt_lower_hot_surface(rayleigh: ArrayLike) -> FloatArray:
+    """Mean Nusselt number of the lower surface of a hot horizontal plate.
+
+    Parameters
+    ----------
+    rayleigh : array_like
+        Rayleigh number on the length L = A / P [-]
+
+    Returns
+    -------
+    nusselt : ndarray
+        Mean Nusselt number on L [-]
+
+    Notes
+    -----
+    .. math:: \\overline{Nu}_L = 0.27\\, Ra_L^{1/4} \\quad (10^5 \\le Ra_L \\le 10^{10})
+
+    References
+    ----------
+    Incropera et al., 6th ed., eq. 9.32 (after Lloyd & Moran 1974 and Goldstein et al.
+    1973).
+    """
+    ra = np.maximum(np.asarray(rayleigh, dtype=float), 0.0)
+    return 0.27 * ra**0.25
+
+
+def nusselt_flat_plate_laminar(reynolds: ArrayLike, prandtl: ArrayLike) -> FloatArray:
+    """Mean Nusselt number of a flat plate in a parallel laminar stream.
+
+    Parameters
+    ----------
+    reynolds : array_like
+        Reynolds number on the plate length in the flow direction [-]
+    prandtl : array_like
+        Prandtl number, >= 0.6 [-]
+
+    Returns
+    -------
+    nusselt : ndarray
+        Mean Nusselt number on the plate length [-]
+
+    Notes
+    -----
+    .. math:: \\overline{Nu}_L = 0.664\\, Re_L^{1/2} Pr^{1/3}
+
+    References
+    ----------
+    Incropera et al., 6th ed., eq. 7.30 (Pohlhausen's similarity solution).
+    """
+    re = np.maximum(np.asarray(reynolds, dtype=float), 0.0)
+    return 0.664 * np.sqrt(re) * np.cbrt(np.asarray(prandtl, dtype=float))
+
+
+def combine_mixed_convection(forced: ArrayLike, natural: ArrayLike) -> FloatArray:
+    """Nusselt number (or coefficient) of forced and natural convection together.
+
+    Parameters
+    ----------
+    forced : array_like
+        Forced-convection Nusselt number or coefficient [-]
+    natural : array_like
+        Natural-convection value on the same basis [-]
+
+    Returns
+    -------
+    combined : ndarray
+        (forced^3 + natural^3)^(1/3) [-]
+
+    Notes
+    -----
+    Assisting and transverse flows, exponent 3; never below either part alone.
+
+    References
+    ----------
+    Incropera et al., 6th ed., eq. 9.64 (after Churchill).
+    """
+    f = np.asarray(forced, dtype=float)
+    n = np.asarray(natural, dtype=float)
+    return np.cbrt(f**3 + n**3)
+
+
+def _inside(name: str, value: ArrayLike) -> NDArray[np.bool_]:
+    low, high = CORRELATION_RANGES[name]
+    v = np.asarray(value)
+    return (v >= low) & (v <= high)
+
+
+class FaceCoefficients(NamedTuple):
+    """Heat-transfer coefficients of the free faces of a box (see `face_coefficients`).
+
+    Attributes
+    ----------
+    side_W_m2K : convection on the four vertical faces [W/(m^2 K)]
+    top_W_m2K : convection on the top face [W/(m^2 K)]
+    radiation_W_m2K : radiation from every free face [W/(m^2 K)]
+    inside_range : every correlation used inside its published range [-]
+    """
+
+    side_W_m2K: FloatArray
+    top_W_m2K: FloatArray
+    radiation_W_m2K: FloatArray
+    inside_range: NDArray[np.bool_]
+
+
+def face_coefficients(
+    rise_K: ArrayLike,
+    ambient_C: ArrayLike,
+    length_m: ArrayLike,
+    width_m: ArrayLike,
+    height_m: ArrayLike,
+    emissivity: ArrayLike,
+    air_speed_m_s: ArrayLike = 0.0,
+    *,
+    vertical: str = "churchill_chu",
+) -> FaceCoefficients:
+    """Convection and radiation coefficients of a box's free faces, face by face.
+
+    Parameters
+    ----------
+    rise_K : array_like
+        Surface temperature above the air, >= 0 [K]
+    ambient_C : array_like
+        Air (and surroundings) temperature [degC]
+    length_m, width_m : array_like
+        Sides of the footprint [m]
+    height_m : array_like
+        Height of the box, the length of its vertical faces [m]
+    emissivity : array_like
+        Emissivity of the faces (area-weighted over core and winding) [-]
+    air_speed_m_s : array_like, optional
+        Speed of an air stream along the longer footprint side, 0 in still air [m/s]
+    vertical : {"churchill_chu", "churchill_chu_laminar"}, optional
+        Correlation for the vertical faces: the all-range form (default) or the laminar
+        form (an alternative inside Ra <= 1e9, used for the uncertainty band) [-]
+
+    Returns
+    -------
+    coefficients : FaceCoefficients
+        Side, top and radiation coefficients [W/(m^2 K)] and the range flag [-]
+
+    Notes
+    -----
+    The face toward the board is no free face; it is left out here. Each remaining face
+    takes the correlation published for its orientation, on its own characteristic
+    length, with air properties at the film temperature:
+
+    * vertical faces: Churchill-Chu on the height H (`nusselt_vertical_plate`);
+    * top face: on L = A/P, Lloyd-Moran/Goldstein where 1e4 <= Ra <= 1e11
+      (`nusselt_upper_hot_surface`), below it the Raithby-Hollands small-plate form
+      (`nusselt_upper_hot_surface_low_rayleigh`);
+    * in an air stream, each face's natural value is combined with the laminar flat-plate
+      value on the flow length (`combine_mixed_convection`, `nusselt_flat_plate_laminar`);
+    * radiation to surroundings at the air temperature, view factor 1 (a convex part).
+
+    Outside every range the nearest correlation is still evaluated (the fallback) and
+    `inside_range` is False.
+
+    References
+    ----------
+    Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., Wiley, 2007,
+    ch. 7 and 9; the individual correlations' sources.
+    """
+    rise = np.maximum(np.asarray(rise_K, dtype=float), 0.0)
+    ambient_K = np.asarray(ambient_C, dtype=float) + ZERO_CELSIUS_K
+    film = ambient_K + 0.5 * rise
+    air = air_properties(film)
+    length = np.asarray(length_m, dtype=float)
+    width = np.asarray(width_m, dtype=float)
+    height = np.asarray(height_m, dtype=float)
+    k = air.conductivity_W_mK
+    scale = GRAVITY / film * rise / (air.kinematic_viscosity_m2_s * air.diffusivity_m2_s)
+
+    ra_side = scale * height**3
+    if vertical == "churchill_chu":
+        nu_side = nusselt_vertical_plate(ra_side, air.prandtl)
+        ok = _inside("vertical_churchill_chu", ra_side)
+    elif vertical == "churchill_chu_laminar":
+        nu_side = nusselt_vertical_plate_laminar(ra_side, air.prandtl)
+        ok = _inside("vertical_churchill_chu_laminar", ra_side)
+    else:
+        raise ValueError(f"unknown vertical-face correlation {vertical!r}")
+    h_side = nu_side * k / height
+
+    top_length = length * width / (2.0 * (length + width))
+    ra_top = scale * top_length**3
+    high = ra_top >= CORRELATION_RANGES["upper_hot_lloyd_moran"][0]
+    nu_top = np.where(
+        high,
+        nusselt_upper_hot_surface(ra_top),
+        nusselt_upper_hot_surface_low_rayleigh(ra_top, air.prandtl),
+    )
+    ok = ok & np.where(
+        high,
+        _inside("upper_hot_lloyd_moran", ra_top),
+        _inside("upper_hot_raithby_hollands", ra_top),
+    )
+    h_top = nu_top * k / top_length
+
+    speed = np.asarray(air_speed_m_s, dtype=float)
+    if np.any(speed > 0):
+        flow_length = np.maximum(length, width)
+        reynolds = speed * flow_length / air.kinematic_viscosity_m2_s
+        h_forced = nusselt_flat_plate_laminar(reynolds, air.prandtl) * k / flow_length
+        h_side = combine_mixed_convection(h_forced, h_side)
+        h_top = combine_mixed_convection(h_forced, h_top)
+        ok = ok & _inside("flat_plate_laminar_reynolds", reynolds)
+
+    ok = ok & _inside("air_film_K", film)
+    e = np.asarray(emissivity, dtype=float)
+    ok = ok & (e >= 0.0) & (e <= 1.0)
+    h_rad = _radiation_h(np.asarray(ambient_C) + rise, ambient_C, e)
+    return FaceCoefficients(h_side, h_top, h_rad, np.asarray(ok))
+
+
+def _faces_conductance(rise_K: FloatArray, part: ThermalContext, vertical: str):
+    if part.length_m is None or part.width_m is None:
+        raise ValueError("the face-by-face thermal model needs length_m and width_m")
+    faces = face_coefficients(
+        rise_K, part.ambient_C, part.length_m, part.width_m, part.height_m, part.emissivity,
+        part.air_speed_m_s, vertical=vertical,
+    )
+    length = np.asarray(part.length_m)
+    width = np.asarray(part.width_m)
+    side_area = 2.0 * (length + width) * np.asarray(part.height_m)
+    top_area = length * width
+    air = (faces.side_W_m2K + faces.radiation_W_m2K) * side_area + (
+        faces.top_W_m2K + faces.radiation_W_m2K
+    ) * top_area
+    return np.asarray(part.air_exposed) * air + np.asarray(part.fixed_conductance_W_K), faces
+
+
+def conductance_faces(rise_K: FloatArray, part: ThermalContext) -> FloatArray:
+    """Conductance of the part face by face, plus any fixed path, G [W/K]
+
+    Parameters
+    ----------
+    rise_K : array_like
+        Temperature rise of the surface over the reference (air) temperature [K]
+    part : ThermalContext
+        Footprint sides, height, emissivity, air speed, fixed conductance and whether the
+        faces meet air [-]
+
+    Returns
+    -------
+    conductance : ndarray
+        Thermal conductance to the reference temperature [W/K]
+
+    Notes
+    -----
+    .. math::
+
+        G = a\\left[(h_{side} + h_r)\\, 2(l + w) H + (h_{top} + h_r)\\, l w\\right]
+        + G_{fixed}
+
+    with the coefficients of `face_coefficients` and a = `air_exposed`. The face toward the
+    board carries no air heat.
+
+    References
+    ----------
+    See `face_coefficients`.
+    """
+    return _faces_conductance(rise_K, part, "churchill_chu")[0]
+
+
+def conductance_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> FloatArray:
+    """As `conductance_faces` with the laminar Churchill-Chu form on the vertical faces.
+
+    Parameters
+    ----------
+    rise_K : array_like
+        Temperature rise of the surface [K]
+    part : ThermalContext
+        As for `conductance_faces` [-]
+
+    Returns
+    -------
+    conductance : ndarray
+        Thermal conductance [W/K]
+
+    References
+    ----------
+    Incropera et al., 6th ed., eq. 9.27.
+    """
+    return _faces_conductance(rise_K, part, "churchill_chu_laminar")[0]
+
+
 # --------------------------------------------------------------------------- models
 
 
@@ -260,6 +795,11 @@ class ThermalContext(NamedTuple):
     height_m : height of the part, the convection length [m]
     emissivity : surface emissivity [-]
     ve_m3 : effective core volume, or None when no model needs it [m^3]
+    length_m, width_m : sides of the part's footprint, for the face-by-face model [m]
+    air_speed_m_s : speed of a forced air stream along the part, 0 in still air [m/s]
+    fixed_conductance_W_K : conductance of paths that do not depend on the rise (board,
+        potting compound), added to the air path by the face-by-face model [W/K]
+    air_exposed : 1 where the free faces meet air, 0 where a compound covers them [-]
     """
 
     ambient_C: ArrayLike
@@ -267,10 +807,14 @@ class ThermalContext(NamedTuple):
     height_m: ArrayLike
     emissivity: ArrayLike
     ve_m3: ArrayLike | None
+    length_m: ArrayLike | None = None
+    width_m: ArrayLike | None = None
+    air_speed_m_s: ArrayLike = 0.0
+    fixed_conductance_W_K: ArrayLike = 0.0
+    air_exposed: ArrayLike = 1.0
 
 
 ConductanceModel = Callable[[FloatArray, ThermalContext], FloatArray]
-RangeCheck = Callable[[FloatArray, ThermalContext], None]
 
 
 def conductance_convection(rise_K: FloatArray, part: ThermalContext) -> FloatArray:
@@ -364,24 +908,51 @@ def conductance_ferrite_rth(rise_K: FloatArray, part: ThermalContext) -> FloatAr
     return 1.0 / _ferrite_rth(part.ve_m3) + 0.0 * np.asarray(rise_K)
 
 
-def _check_convection_final(rise_K: FloatArray, part: ThermalContext) -> None:
-    _check_laminar(rise_K, part.height_m)
-    _check_emissivity(part.emissivity)
+def _inside_convection(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+    low, high = LAMINAR_RAYLEIGH_RANGE
+    rayleigh = AIR_RAYLEIGH_PER_K_M3 * np.asarray(rise_K) * np.asarray(part.height_m) ** 3
+    e = np.asarray(part.emissivity)
+    return (rayleigh >= low) & (rayleigh <= high) & (e >= 0.0) & (e <= 1.0)
 
 
-def _check_mclyman_final(rise_K: FloatArray, part: ThermalContext) -> None:
-    _check_mclyman(rise_K)
+def _inside_mclyman(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+    return np.asarray(rise_K) <= MCLYMAN_MAX_RISE_K
 
 
-def _check_ferrite_final(rise_K: FloatArray, part: ThermalContext) -> None:
-    _check_ferrite_rth(part.ve_m3)
+def _inside_ferrite(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+    low, high = FERRITE_RTH_VE_RANGE_M3
+    ve = np.asarray(part.ve_m3)
+    return (ve >= low) & (ve <= high) & np.ones(np.shape(rise_K), dtype=bool)
 
 
-#: Thermal models by name: (conductance at a rise, validity check on the final state).
-CONDUCTANCE_MODELS: dict[str, tuple[ConductanceModel, RangeCheck]] = {
-    "convection": (conductance_convection, _check_convection_final),
-    "mclyman": (conductance_mclyman, _check_mclyman_final),
-    "ferrite_rth": (conductance_ferrite_rth, _check_ferrite_final),
+def _inside_faces(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+    return _faces_conductance(rise_K, part, "churchill_chu")[1].inside_range
+
+
+def _inside_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+    return _faces_conductance(rise_K, part, "churchill_chu_laminar")[1].inside_range
+
+
+RangeFlags = Callable[[FloatArray, ThermalContext], NDArray[np.bool_]]
+
+#: Thermal models by name: (conductance at a rise, per-part flag "inside the published
+#: range" on the final state). "faces" is the face-by-face model (default); the others are
+#: whole-part laws kept for comparison and for the uncertainty band.
+CONDUCTANCE_MODELS: dict[str, tuple[ConductanceModel, RangeFlags]] = {
+    "faces": (conductance_faces, _inside_faces),
+    "faces_laminar": (conductance_faces_laminar, _inside_faces_laminar),
+    "convection": (conductance_convection, _inside_convection),
+    "mclyman": (conductance_mclyman, _inside_mclyman),
+    "ferrite_rth": (conductance_ferrite_rth, _inside_ferrite),
+}
+
+#: What each model's range flag covers, for messages.
+RANGE_MESSAGES = {
+    "faces": "face-by-face convection: a correlation outside its published range",
+    "faces_laminar": "face-by-face convection (laminar form): a correlation outside its range",
+    "convection": "natural convection: Rayleigh number outside the laminar range 1e4..1e9",
+    "mclyman": f"McLyman temperature rise above {MCLYMAN_MAX_RISE_K} K, beyond the fitted curve",
+    "ferrite_rth": "ferrite thermal resistance: Ve outside 0.1..100 cm^3, beyond the fitted cores",
 }
 
 
@@ -398,12 +969,15 @@ class ThermalEquilibrium(NamedTuple):
     runaway : True where no equilibrium was found: the loss grows faster with temperature
         than the part can shed it [-]
     conductance_W_K : conductance to ambient used in the last step [W/K]
+    inside_range : True where the model was used inside its published range at the
+        equilibrium (True where `runaway`: there is no state to judge) [-]
     """
 
     temperature_C: FloatArray
     loss_W: FloatArray
     runaway: NDArray[np.bool_]
     conductance_W_K: FloatArray
+    inside_range: NDArray[np.bool_]
 
 
 def _smallest_nonnegative_root(
@@ -513,6 +1087,13 @@ def loss_temperature_fixed_point(
     max_iterations: int = 8,
     *,
     tolerance: float = 1e-7,
+    length_m: ArrayLike | None = None,
+    width_m: ArrayLike | None = None,
+    air_speed_m_s: ArrayLike = 0.0,
+    fixed_conductance_W_K: ArrayLike = 0.0,
+    air_exposed: ArrayLike = 1.0,
+    heat_offset_W: ArrayLike = 0.0,
+    enclosure: Enclosure | None = None,
 ) -> ThermalEquilibrium:
     """Temperature at which a temperature-dependent loss equals the heat shed.
 
@@ -539,6 +1120,20 @@ def loss_temperature_fixed_point(
         A part has settled once its rise changes by less than this fraction of
         (1 K + rise) in one step; 0 sends every part to the bracketing search (slow, for
         cross-checks) [-]
+    length_m, width_m : array_like, optional
+        Footprint sides, needed by "faces" and "faces_laminar" [m]
+    air_speed_m_s : array_like, optional
+        Forced air speed along the part, for the face models [m/s]
+    fixed_conductance_W_K : array_like, optional
+        Conductance of fixed paths (board, potting) to their sink [W/K]
+    air_exposed : array_like, optional
+        1 where the faces meet air, 0 where potted [-]
+    heat_offset_W : array_like, optional
+        Heat a sink warmer than ambient pushes into the part at ambient temperature: a
+        board at T_b through G_b gives G_b (T_b - T_a), >= 0 [W]
+    enclosure : Enclosure, optional
+        A closed box around the part: ambient_C is then the air outside it, and the part
+        sheds into the box's inside air, whose rise follows the part's loss [-]
 
     Returns
     -------
@@ -579,15 +1174,74 @@ def loss_temperature_fixed_point(
     runaway; such a part is a hair from runaway anyway. Only the few hard parts pay for the
     scan.
 
+    With a heat offset Q_0 the balance is P(T) + Q_0 = G x: a sink at T_b through G_b
+    takes G_b (T - T_b) = G_b x - Q_0, so the board path joins G and its temperature enters
+    as Q_0 (the same quadratic, P(T_a) raised by Q_0). In an enclosure, the inside air rise
+    for the current loss (`enclosure_air_rise`) is added to the ambient and the equilibrium
+    solved again until the air rise settles (a part whose air rise does not settle in
+    `_ENCLOSURE_STEPS` rounds is reported as runaway).
+
     References
     ----------
     C. W. T. McLyman, Transformer and Inductor Design Handbook, 4th ed., CRC Press, 2011;
     S. Maniktala, Switching Power Supplies A-Z, 2nd ed., Newnes, 2012;
-    J. P. Holman, Heat Transfer, McGraw-Hill (from memory). The iteration scheme is this
-    module's own (no source).
+    J. P. Holman, Heat Transfer, McGraw-Hill (from memory); Incropera et al., Fundamentals
+    of Heat and Mass Transfer, 6th ed., 2007. The iteration scheme is this module's own (no
+    source).
     """
+    context = {
+        "surface_m2": surface_m2, "height_m": height_m, "emissivity": emissivity,
+        "ve_m3": ve_m3, "length_m": length_m, "width_m": width_m,
+        "air_speed_m_s": air_speed_m_s, "fixed_conductance_W_K": fixed_conductance_W_K,
+        "air_exposed": air_exposed,
+    }
+    options = {
+        "model": model, "max_iterations": max_iterations, "tolerance": tolerance,
+        "heat_offset_W": heat_offset_W,
+    }
+    if enclosure is None:
+        return _fixed_point(ambient_C, loss_coefficients, context, **options)
+    outside = np.asarray(ambient_C, dtype=float)
+    if outside.ndim:
+        raise ValueError("an enclosure needs one outside ambient temperature")
+    air_rise = np.zeros(())
+    settled = False
+    for _ in range(_ENCLOSURE_STEPS):
+        result = _fixed_point(outside + air_rise, loss_coefficients, context, **options)
+        heat = np.where(result.runaway, 0.0, result.loss_W)
+        new_rise = enclosure_air_rise(heat, float(outside), enclosure)
+        change = np.abs(new_rise - air_rise)
+        air_rise = new_rise
+        if np.all(change <= 1e-6 * (1.0 + new_rise)):
+            settled = True
+            break
+    if settled:
+        return result
+    unsettled = change > 1e-6 * (1.0 + air_rise)
+    runaway = result.runaway | unsettled
+    return ThermalEquilibrium(
+        np.where(runaway, RUNAWAY_TEMPERATURE_C, result.temperature_C),
+        result.loss_W, runaway, result.conductance_W_K, result.inside_range | runaway,
+    )
+
+
+# Rounds of inside-air updates for a part in an enclosure.
+_ENCLOSURE_STEPS = 40
+
+
+def _fixed_point(
+    ambient_C: ArrayLike,
+    loss_coefficients: tuple[ArrayLike, ArrayLike, ArrayLike],
+    context: dict,
+    *,
+    model: str,
+    max_iterations: int,
+    tolerance: float,
+    heat_offset_W: ArrayLike,
+) -> ThermalEquilibrium:
+    ve_m3 = context["ve_m3"]
     try:
-        conductance_of, check_range = CONDUCTANCE_MODELS[model]
+        conductance_of, inside_range = CONDUCTANCE_MODELS[model]
     except KeyError:
         raise ValueError(
             f"unknown thermal model {model!r}; choose one of {sorted(CONDUCTANCE_MODELS)}"
@@ -599,12 +1253,11 @@ def loss_temperature_fixed_point(
     ambient = np.asarray(ambient_C, dtype=float)
     loss_at_ambient = a0 + ambient * (a1 + a2 * ambient)
     slope_at_ambient = a1 + 2.0 * a2 * ambient
+    offset = np.asarray(heat_offset_W, dtype=float)
     shape = np.broadcast_shapes(
         loss_at_ambient.shape,
-        np.shape(surface_m2),
-        np.shape(height_m),
-        np.shape(emissivity),
-        np.shape(ve_m3) if ve_m3 is not None else (),
+        offset.shape,
+        *(np.shape(v) for v in context.values() if v is not None),
     )
 
     def flat(value: ArrayLike | None) -> NDArray[np.floating] | None:
@@ -615,13 +1268,14 @@ def loss_temperature_fixed_point(
     # Flat copies let the loop shrink to the parts still iterating: most settle in three
     # steps, a few near tangency need more.
     part = ThermalContext(
-        flat(ambient), flat(surface_m2), flat(height_m), flat(emissivity), flat(ve_m3)
+        ambient_C=flat(ambient), **{name: flat(value) for name, value in context.items()}
     )
-    curvature, slope0, loss0 = flat(a2), flat(slope_at_ambient), flat(loss_at_ambient)
+    curvature, slope0 = flat(a2), flat(slope_at_ambient)
+    loss0 = flat(loss_at_ambient) + flat(offset)
     count = loss0.size
 
     # McLyman's law at the ambient loss is a fair first guess for any surface-cooled part.
-    rise = np.clip(_mclyman_rise(loss0, part.surface_m2), 1.0, 200.0)
+    rise = np.clip(_mclyman_rise(loss0, np.maximum(part.surface_m2, 1e-6)), 1.0, 200.0)
     conductance = np.zeros(count)
     found = np.zeros(count, dtype=bool)
     active = np.arange(count)
@@ -659,13 +1313,16 @@ def loss_temperature_fixed_point(
     runaway = ~found
     temperature = np.where(runaway, RUNAWAY_TEMPERATURE_C, part.ambient_C + rise)
     loss = flat(a0) + temperature * (flat(a1) + curvature * temperature)
+    inside = np.ones(count, dtype=bool)
     if np.any(found):
-        check_range(rise[found], _take(part, found))
+        inside[found] = inside_range(rise[found], _take(part, found))
+        _warn_if(~inside, RANGE_MESSAGES[model])
     return ThermalEquilibrium(
         temperature.reshape(shape)[()],
         loss.reshape(shape)[()],
         runaway.reshape(shape)[()],
         conductance.reshape(shape)[()],
+        inside.reshape(shape)[()],
     )
 
 
@@ -737,6 +1394,12 @@ def heat_shed(
     emissivity: ArrayLike = 0.9,
     model: str = "convection",
     ve_m3: ArrayLike | None = None,
+    *,
+    length_m: ArrayLike | None = None,
+    width_m: ArrayLike | None = None,
+    air_speed_m_s: ArrayLike = 0.0,
+    fixed_conductance_W_K: ArrayLike = 0.0,
+    air_exposed: ArrayLike = 1.0,
 ) -> FloatArray:
     """Heat a part sheds to ambient at a given temperature rise, Q = G(dT) dT [W].
 
@@ -756,6 +1419,8 @@ def heat_shed(
         Key of `CONDUCTANCE_MODELS` [-]
     ve_m3 : array_like, optional
         Effective core volume, for "ferrite_rth" [m^3]
+    length_m, width_m, air_speed_m_s, fixed_conductance_W_K, air_exposed : optional
+        As for `loss_temperature_fixed_point` [-]
 
     Returns
     -------
@@ -774,5 +1439,329 @@ def heat_shed(
     """
     conductance, _ = CONDUCTANCE_MODELS[model]
     rise = np.maximum(np.asarray(rise_K, dtype=float), _MIN_RISE_K)
-    part = ThermalContext(ambient_C, surface_m2, height_m, emissivity, ve_m3)
+    part = ThermalContext(
+        ambient_C, surface_m2, height_m, emissivity, ve_m3, length_m, width_m, air_speed_m_s,
+        fixed_conductance_W_K, air_exposed,
+    )
     return conductance(rise, part) * rise
+
+
+# --------------------------------------------------------------------------- conduction paths
+
+#: Thermal conductivity of copper [W/(m K)] (Incropera et al., 6th ed., Table A.1, pure
+#: copper near 300-400 K: 401-393; from memory).
+COPPER_CONDUCTIVITY_W_MK = 398.0
+
+#: Thermal conductivity of the enamel and impregnating varnish between the turns
+#: [W/(m K)] (polymer insulation, typically 0.15-0.25; from memory).
+WINDING_INSULATION_CONDUCTIVITY_W_MK = 0.2
+
+#: Thermal conductivity of ferrite and powder core material [W/(m K)] (MnZn ferrite is
+#: about 3.5-5; from memory).
+CORE_CONDUCTIVITY_W_MK = 4.0
+
+#: Thermal conductivity of still air near 320 K [W/(m K)] (`AIR_TABLE`).
+AIR_CONDUCTIVITY_W_MK = 0.0278
+
+#: Board copper thickness, 1 oz/ft^2 [m] (common practice, no source).
+BOARD_COPPER_THICKNESS_M = 35e-6
+
+#: Length of each of the two terminals from the winding to the board pad [m], and gap
+#: between the part's bottom face and the board [m] (common practice, no source).
+TERMINAL_LENGTH_M = 5e-3
+STANDOFF_GAP_M = 0.5e-3
+
+
+def potting_shape_factor(
+    length_m: ArrayLike, width_m: ArrayLike, height_m: ArrayLike, thickness_m: ArrayLike
+) -> tuple[FloatArray, NDArray[np.bool_]]:
+    """Conduction shape factor of a compound layer over a box's five free faces.
+
+    Parameters
+    ----------
+    length_m, width_m : array_like
+        Footprint sides of the part [m]
+    height_m : array_like
+        Height of the part [m]
+    thickness_m : array_like
+        Compound thickness from every free face to the wall [m]
+
+    Returns
+    -------
+    shape_factor : ndarray
+        S, so that G = k S [m]
+    inside_range : ndarray of bool
+        Every side at least a fifth of the thickness, the condition of the edge and corner
+        factors [-]
+
+    Notes
+    -----
+    Plane walls over the five faces (the face toward the board is left out), plus the
+    edges and corners where free faces meet:
+
+    .. math::
+
+        S = \\frac{l w + 2 (l + w) H}{t} + 0.54\\,[2 (l + w) + 4 H] + 0.15\\, t \\cdot 4
+
+    References
+    ----------
+    Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., Table 4.1, cases 8
+    (edge of two adjoining walls, S = 0.54 D, D > L/5) and 9 (corner of three walls,
+    S = 0.15 L).
+    """
+    length = np.asarray(length_m, dtype=float)
+    width = np.asarray(width_m, dtype=float)
+    height = np.asarray(height_m, dtype=float)
+    t = np.asarray(thickness_m, dtype=float)
+    faces = (length * width + 2.0 * (length + width) * height) / t
+    edges = 0.54 * (2.0 * (length + width) + 4.0 * height)
+    corners = 4.0 * 0.15 * t
+    inside = np.minimum(np.minimum(length, width), height) > t / 5.0
+    return faces + edges + corners, inside
+
+
+def board_conductance(
+    footprint_m2: ArrayLike,
+    terminal_copper_area_m2: ArrayLike,
+    board_copper_area_m2: ArrayLike,
+) -> FloatArray:
+    """Conductance from the part into the board at its copper area's edge [W/K].
+
+    Parameters
+    ----------
+    footprint_m2 : array_like
+        Area of the part's face toward the board [m^2]
+    terminal_copper_area_m2 : array_like
+        Copper cross-section of one terminal (the winding's conductor) [m^2]
+    board_copper_area_m2 : array_like
+        Board copper around the footprint tied to the terminals, 35 um thick [m^2]
+
+    Returns
+    -------
+    conductance : ndarray
+        G_board [W/K]
+
+    Notes
+    -----
+    Two terminals (copper, `TERMINAL_LENGTH_M`) in parallel with the air gap under the
+    bottom face (`STANDOFF_GAP_M`) lead into the board copper, which spreads the heat
+    radially from the footprint's equivalent radius r1 to r2 of footprint plus copper area,
+    where the board is at its stated temperature:
+
+    .. math::
+
+        G = \\left[\\frac{1}{2 k_{cu} A_t / l_t + k_{air} A_{fp} / \\delta}
+        + \\frac{\\ln(r_2/r_1)}{2\\pi k_{cu} t_{cu}}\\right]^{-1}
+
+    No board copper: no board path (G = 0).
+
+    References
+    ----------
+    Incropera et al., 6th ed., eqs. 3.6 (plane wall) and 3.27 (radial conduction in a
+    cylindrical wall); terminal length, gap and copper thickness: common practice, no
+    source.
+    """
+    footprint = np.asarray(footprint_m2, dtype=float)
+    copper = np.maximum(np.asarray(board_copper_area_m2, dtype=float), 0.0)
+    into_pads = (
+        2.0 * COPPER_CONDUCTIVITY_W_MK * np.asarray(terminal_copper_area_m2) / TERMINAL_LENGTH_M
+        + AIR_CONDUCTIVITY_W_MK * footprint / STANDOFF_GAP_M
+    )
+    log_ratio = 0.5 * np.log1p(copper / footprint)
+    spread = np.where(
+        log_ratio > 0.0,
+        2.0 * np.pi * COPPER_CONDUCTIVITY_W_MK * BOARD_COPPER_THICKNESS_M
+        / np.where(log_ratio > 0.0, log_ratio, 1.0),
+        0.0,
+    )
+    with np.errstate(divide="ignore", invalid="ignore"):
+        total = np.where(spread > 0.0, 1.0 / (1.0 / into_pads + 1.0 / spread), 0.0)
+    return total
+
+
+def winding_conductivity_across_layers(
+    pitch_m: ArrayLike,
+    copper_thickness_m: ArrayLike,
+    copper_W_mK: ArrayLike = COPPER_CONDUCTIVITY_W_MK,
+    insulation_W_mK: ArrayLike = WINDING_INSULATION_CONDUCTIVITY_W_MK,
+) -> FloatArray:
+    """Effective conductivity of a winding across its layers, layers in series [W/(m K)].
+
+    Parameters
+    ----------
+    pitch_m : array_like
+        Layer pitch: conductor outer size in the build direction [m]
+    copper_thickness_m : array_like
+        Copper thickness per layer: the foil thickness, or a round or litz conductor's
+        copper area divided by its pitch [m]
+    copper_W_mK : array_like, optional
+        Copper conductivity [W/(m K)]
+    insulation_W_mK : array_like, optional
+        Conductivity of insulation and impregnation between the copper [W/(m K)]
+
+    Returns
+    -------
+    conductivity : ndarray
+        k across the layers [W/(m K)]
+
+    Notes
+    -----
+    Each layer is a copper slab and an insulation slab in series (composite wall):
+
+    .. math:: k = \\frac{p}{t_{cu}/k_{cu} + (p - t_{cu})/k_{ins}}
+
+    For round wire this is the lower (series, Wiener) bound of the transverse conductivity:
+    a hot spot computed with it is not underestimated. An impregnated winding is assumed;
+    air voids would lower the conductivity further.
+
+    References
+    ----------
+    Incropera et al., 6th ed., eq. 3.19 (composite wall, series resistances).
+    """
+    pitch = np.asarray(pitch_m, dtype=float)
+    copper = np.clip(np.asarray(copper_thickness_m, dtype=float), 0.0, pitch)
+    resistance = copper / np.asarray(copper_W_mK) + (pitch - copper) / np.asarray(insulation_W_mK)
+    return pitch / resistance
+
+
+def slab_generation_rise(
+    power_W: ArrayLike, thickness_m: ArrayLike, area_m2: ArrayLike, conductivity_W_mK: ArrayLike
+) -> FloatArray:
+    """Temperature rise inside a slab that generates heat uniformly, cooled on one face.
+
+    Parameters
+    ----------
+    power_W : array_like
+        Heat generated in the slab, >= 0 [W]
+    thickness_m : array_like
+        Slab thickness from the insulated to the cooled face [m]
+    area_m2 : array_like
+        Slab area [m^2]
+    conductivity_W_mK : array_like
+        Conductivity across the slab [W/(m K)]
+
+    Returns
+    -------
+    rise : ndarray
+        Hottest (insulated-face) minus cooled-face temperature [K]
+
+    Notes
+    -----
+    .. math:: T_0 - T_s = \\frac{\\dot q\\, t^2}{2 k} = \\frac{P\\, t}{2 k A}
+
+    References
+    ----------
+    Incropera et al., 6th ed., eq. 3.42 (plane wall with uniform generation; the
+    insulated face is the symmetry plane).
+    """
+    return (
+        np.maximum(np.asarray(power_W, dtype=float), 0.0)
+        * np.asarray(thickness_m)
+        / (2.0 * np.asarray(conductivity_W_mK) * np.asarray(area_m2))
+    )
+
+
+# --------------------------------------------------------------------------- enclosure
+
+# Rises over which the enclosure's heat curve is tabulated [K].
+_ENCLOSURE_RISES = np.geomspace(1e-4, 2.0 * RUNAWAY_CEILING_RISE_K, 600)
+
+
+class Enclosure(NamedTuple):
+    """A closed box around the part, cooled from outside (see `enclosure_air_rise`).
+
+    Attributes
+    ----------
+    volume_m3 : inside volume, taken as a cube [m^3]
+    emissivity : outer surface emissivity [-]
+    """
+
+    volume_m3: float
+    emissivity: float = 0.9
+
+
+def enclosure_heat_shed(rise_K: ArrayLike, ambient_C: float, box: Enclosure) -> FloatArray:
+    """Heat a closed box passes from its inside air to the outside air at a rise [W].
+
+    Parameters
+    ----------
+    rise_K : array_like
+        Inside air temperature above the outside air, >= 0 [K]
+    ambient_C : float
+        Outside air temperature [degC]
+    box : Enclosure
+        Volume and emissivity of the box [-]
+
+    Returns
+    -------
+    heat : ndarray
+        Heat flow through the walls [W]
+
+    Notes
+    -----
+    The box is a cube of side a = V^(1/3) standing on its bottom face (no heat there).
+    Inside, the air gives heat to the four walls and the ceiling by natural convection
+    (Churchill-Chu on the walls; the ceiling, cooler than the air below it, is the mirror
+    of a hot plate's upper surface); outside, the same five faces shed it by natural
+    convection (`face_coefficients`) and radiation. The thin wall's conduction is
+    neglected. The inside wall temperature splits the rise so both paths carry the same
+    heat (solved by bisection).
+
+    References
+    ----------
+    Incropera et al., 6th ed., ch. 9 (correlations as in `face_coefficients`).
+    """
+    side = float(box.volume_m3) ** (1.0 / 3.0)
+    rise = np.maximum(np.asarray(rise_K, dtype=float), 0.0)
+    area_sides = 4.0 * side * side
+    area_top = side * side
+
+    def outside(dt):
+        f = face_coefficients(dt, ambient_C, side, side, side, box.emissivity)
+        return ((f.side_W_m2K + f.radiation_W_m2K) * area_sides
+                + (f.top_W_m2K + f.radiation_W_m2K) * area_top) * dt
+
+    def inside(dt, wall_C):
+        f = face_coefficients(dt, wall_C, side, side, side, 0.0)
+        return (f.side_W_m2K * area_sides + f.top_W_m2K * area_top) * dt
+
+    low = np.zeros_like(rise)
+    high = rise.copy()
+    for _ in range(50):
+        wall = 0.5 * (low + high)  # wall rise over the outside air
+        surplus = outside(wall) - inside(rise - wall, ambient_C + wall)
+        high = np.where(surplus > 0, wall, high)
+        low = np.where(surplus > 0, low, wall)
+    wall = 0.5 * (low + high)
+    return outside(wall)
+
+
+def enclosure_air_rise(heat_W: ArrayLike, ambient_C: float, box: Enclosure) -> FloatArray:
+    """Inside air temperature of a closed box above the outside air for a heat load [K].
+
+    Parameters
+    ----------
+    heat_W : array_like
+        Heat dissipated inside the box, >= 0 [W]
+    ambient_C : float
+        Outside air temperature [degC]
+    box : Enclosure
+        The box [-]
+
+    Returns
+    -------
+    rise : ndarray
+        Inside air rise [K]; beyond the tabulated range, the largest tabulated rise
+
+    Notes
+    -----
+    Inverts `enclosure_heat_shed` (increasing in the rise) by interpolation on a
+    geometric table of rises.
+
+    References
+    ----------
+    See `enclosure_heat_shed`.
+    """
+    heats = enclosure_heat_shed(_ENCLOSURE_RISES, ambient_C, box)
+    heat = np.maximum(np.asarray(heat_W, dtype=float), 0.0)
+    return np.interp(heat, heats, _ENCLOSURE_RISES, left=0.0)

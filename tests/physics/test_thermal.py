@@ -103,8 +103,10 @@ def test_radiation_warns_on_impossible_emissivity():
 # --------------------------------------------------------------------------- models
 
 
-def test_registry_holds_the_three_models():
-    assert set(th.CONDUCTANCE_MODELS) == {"convection", "mclyman", "ferrite_rth"}
+def test_registry_holds_the_models():
+    assert set(th.CONDUCTANCE_MODELS) == {
+        "faces", "faces_laminar", "convection", "mclyman", "ferrite_rth"
+    }
 
 
 def test_conductance_models_scalar_and_array():
