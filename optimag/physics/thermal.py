@@ -1336,6 +1336,7 @@ def temperature_rise(
     emissivity: ArrayLike = 0.9,
     ve_m3: ArrayLike | None = None,
     max_iterations: int = 20,
+    **options: ArrayLike,
 ) -> FloatArray:
     """Temperature rise of a part dissipating a fixed loss.
 
@@ -1357,6 +1358,8 @@ def temperature_rise(
         Effective core volume, needed by "ferrite_rth" [m^3]
     max_iterations : int, optional
         Upper bound on conductance updates [-]
+    **options : array_like
+        Footprint sides, air speed, fixed paths, as for `loss_temperature_fixed_point` [-]
 
     Returns
     -------
@@ -1382,6 +1385,7 @@ def temperature_rise(
         model=model,
         ve_m3=ve_m3,
         max_iterations=max_iterations,
+        **options,
     )
     return equilibrium.temperature_C - np.asarray(ambient_C)
 

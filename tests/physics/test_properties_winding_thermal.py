@@ -110,13 +110,14 @@ def test_thermal_functions_finite(data, size):
             th.radiation_coefficient(ambient + rise, ambient, 0.9),
         )
         for model in th.CONDUCTANCE_MODELS:
+            sides = {"length_m": np.sqrt(surface) / 2, "width_m": np.sqrt(surface) / 3}
             result = th.loss_temperature_fixed_point(
-                ambient, (a0, a1, a2), surface, height, model=model, ve_m3=ve
+                ambient, (a0, a1, a2), surface, height, model=model, ve_m3=ve, **sides
             )
             assert finite(result.temperature_C, result.loss_W, result.conductance_W_K)
             settled = ~result.runaway
             assert np.all(result.temperature_C[settled] >= ambient[settled] - 1e-9)
-            assert finite(th.temperature_rise(loss, surface, height, model, ve_m3=ve))
+            assert finite(th.temperature_rise(loss, surface, height, model, ve_m3=ve, **sides))
 
 
 @FAST
