@@ -303,6 +303,54 @@ class OperatingArrays:
 
 
 @dataclass(frozen=True)
+class Cooling:
+    """How the part sheds its heat (the study's ``[cooling]``), SI.
+
+    Attributes
+    ----------
+    mode : "free_air", "on_board", "enclosure", "forced_air" or "potted"
+    board_temperature_C, board_copper_area_m2 : the board of "on_board"
+    enclosure_volume_m3 : the closed box of "enclosure"
+    air_speed_m_s : the air stream of "forced_air"
+    potting_conductivity_W_mK, potting_thickness_m, wall_temperature_C : "potted"
+    core_emissivity, winding_emissivity : of the visible core and winding surfaces
+    potting_shape : conduction shape of the compound layer: "faces_edges_corners" (the
+        model), "faces_only" and "outer_faces" (its lower and upper bounds, for the band)
+    """
+
+    mode: str = "free_air"
+    board_temperature_C: float = 0.0
+    board_copper_area_m2: float = 0.0
+    enclosure_volume_m3: float = 0.0
+    air_speed_m_s: float = 0.0
+    potting_conductivity_W_mK: float = 0.0
+    potting_thickness_m: float = 0.0
+    wall_temperature_C: float = 0.0
+    core_emissivity: float = 0.9
+    winding_emissivity: float = 0.85
+    potting_shape: str = "faces_edges_corners"
+
+    @classmethod
+    def from_study(cls, cooling) -> Cooling:
+        def value(name: str, scale: float = 1.0) -> float:
+            number = getattr(cooling, name)
+            return 0.0 if number is None else float(number) * scale
+
+        return cls(
+            mode=cooling.mode,
+            board_temperature_C=value("board_temperature_C"),
+            board_copper_area_m2=value("board_copper_area_mm2", 1e-6),
+            enclosure_volume_m3=value("enclosure_volume_cm3", 1e-6),
+            air_speed_m_s=value("air_speed_m_s"),
+            potting_conductivity_W_mK=value("potting_conductivity_W_mK"),
+            potting_thickness_m=value("potting_thickness_mm", 1e-3),
+            wall_temperature_C=value("wall_temperature_C"),
+            core_emissivity=float(cooling.core_emissivity),
+            winding_emissivity=float(cooling.winding_emissivity),
+        )
+
+
+@dataclass(frozen=True)
 class Requirements:
     """The study's inductance requirement and limits, SI."""
 
@@ -320,8 +368,8 @@ class Requirements:
     max_loss_W: float
     fringing: str
     thermal_model: str
-    emissivity: float
     labour_per_turn: float
+    cooling: Cooling = Cooling()
 
 
 @dataclass(frozen=True)
@@ -376,8 +424,8 @@ def build_design_space(study, catalog) -> DesignSpace:
         max_loss_W=_finite_or_inf(limits.max_loss_W),
         fringing=study.model.fringing,
         thermal_model=study.model.thermal,
-        emissivity=float(study.model.emissivity),
         labour_per_turn=float(study.cost.labour_per_turn),
+        cooling=Cooling.from_study(study.cooling),
     )
     waveforms = operating_waveforms(study)
     gap_grid = None
@@ -809,29 +857,138 @@ def loss_quadratic(space: DesignSpace, material: np.ndarray, mag: dict, wdg: dic
     return a0, a1, a2
 
 
+def _visible_winding_fraction(space: DesignSpace, core: np.ndarray, wdg: dict) -> np.ndarray:
+    """Share of the free faces' area where the winding, not the core, is seen: all of a
+    ring, none of a pot core, the winding's two ends beyond an E core (each as wide as
+    the centre leg plus bobbin wall and build, as high as the window) (common practice, no
+    source)."""
+    c = space.cores
+    family = c.family[core]
+    length, width, height = wdg["box_length_m"], wdg["box_width_m"], wdg["box_height_m"]
+    free_area = length * width + 2.0 * (length + width) * height
+    ends = 2.0 * (c.leg_width_m[core] + 2.0 * (c.bobbin_wall_m[core] + wdg["build_m"]))
+    e_share = np.clip(ends * c.breadth_m[core] / free_area, 0.0, 1.0)
+    return np.select([family == 0, family == 1], [e_share, 0.0], 1.0)
+
+
+def thermal_setup(
+    space: DesignSpace, core: np.ndarray, stack: np.ndarray, wdg: dict
+) -> tuple[float, dict, np.ndarray]:
+    """How each candidate sheds heat under the study's cooling, for the thermal solver.
+
+    Returns (reference temperature [degC], keyword arguments of
+    `thermal.loss_temperature_fixed_point` other than the loss, per-candidate flag "the
+    conduction model is inside its range"); arrays are per candidate, shape (n,).
+    """
+    req, cool, c = space.requirements, space.requirements.cooling, space.cores
+    length, width, height = wdg["box_length_m"], wdg["box_width_m"], wdg["box_height_m"]
+    n = len(length)
+    share = _visible_winding_fraction(space, core, wdg)
+    kwargs = {
+        "surface_m2": wdg["surface_m2"],
+        "height_m": height,
+        "length_m": length,
+        "width_m": width,
+        "emissivity": share * cool.winding_emissivity + (1.0 - share) * cool.core_emissivity,
+        "ve_m3": c.ve_m3[core] * stack.astype(float),
+        "model": req.thermal_model,
+    }
+    reference = req.ambient_C
+    inside = np.ones(n, dtype=bool)
+    if cool.mode == "forced_air":
+        kwargs["air_speed_m_s"] = cool.air_speed_m_s
+    elif cool.mode == "on_board":
+        g_board = thermal.board_conductance(
+            geometry.footprint(length, width), wdg["copper_area_m2"], cool.board_copper_area_m2
+        )
+        kwargs["fixed_conductance_W_K"] = g_board
+        kwargs["heat_offset_W"] = g_board * (cool.board_temperature_C - req.ambient_C)
+    elif cool.mode == "enclosure":
+        kwargs["enclosure"] = thermal.Enclosure(cool.enclosure_volume_m3, cool.core_emissivity)
+    elif cool.mode == "potted":
+        t = cool.potting_thickness_m
+        shape, inside = thermal.potting_shape_factor(length, width, height, t)
+        if cool.potting_shape == "faces_only":
+            shape = (length * width + 2.0 * (length + width) * height) / t
+        elif cool.potting_shape == "outer_faces":
+            outer_l, outer_w = length + 2.0 * t, width + 2.0 * t
+            shape = (outer_l * outer_w + 2.0 * (outer_l + outer_w) * (height + t)) / t
+        kwargs["fixed_conductance_W_K"] = cool.potting_conductivity_W_mK * shape
+        kwargs["air_exposed"] = 0.0
+        reference = cool.wall_temperature_C
+    return reference, kwargs, np.broadcast_to(inside, (n,))
+
+
 @_quiet
 def certainly_too_hot(
     space: DesignSpace, material: np.ndarray, stack: np.ndarray, core: np.ndarray,
     mag: dict, wdg: dict, loss_coefficients: tuple | None = None,
 ) -> np.ndarray:
     """True where a candidate cannot settle at or below the temperature limit at some
-    operating point: its smallest loss between ambient and the limit already exceeds the
-    heat it could shed at the limit (heat shed grows with temperature). Exact screen, no
-    feasible candidate is ever flagged."""
+    operating point: its smallest loss between the reference temperature (ambient, or the
+    wall of a potted part) and the limit, plus the heat a warmer board pushes in, already
+    exceeds the heat it could shed with its surface at the limit (heat shed grows with
+    temperature; in an enclosure the box's own heat curve at the full rise bounds it too).
+    The hot spot is never below the surface, so this stays an exact screen: no feasible
+    candidate is ever flagged."""
     req = space.requirements
     a0, a1, a2 = loss_coefficients or loss_quadratic(space, material, mag, wdg)
-    t_a, t_max = req.ambient_C, req.max_temperature_C
+    t_a, kwargs, _ = thermal_setup(space, core, stack, wdg)
+    t_max = req.max_temperature_C
     with np.errstate(divide="ignore", invalid="ignore"):
         vertex = np.clip(np.where(a2 > 0, -a1 / (2 * a2), t_a), t_a, t_max)
     p_min = np.minimum(
         np.minimum(a0 + a1 * t_a + a2 * t_a**2, a0 + a1 * t_max + a2 * t_max**2),
         a0 + a1 * vertex + a2 * vertex**2,
     )
+    offset = kwargs.pop("heat_offset_W", 0.0)
+    enclosure = kwargs.pop("enclosure", None)
+    model_name = kwargs.pop("model")
     q_max = thermal.heat_shed(
-        t_max - t_a, t_a, wdg["surface_m2"], wdg["box_height_m"], req.emissivity,
-        req.thermal_model, space.cores.ve_m3[core] * stack.astype(float),
+        t_max - t_a, t_a, kwargs.pop("surface_m2"), kwargs.pop("height_m"),
+        kwargs.pop("emissivity"), model_name, kwargs.pop("ve_m3"), **kwargs,
     )
-    return np.any(p_min > q_max[:, None], axis=1)
+    if enclosure is not None:
+        q_max = np.minimum(q_max, thermal.enclosure_heat_shed(t_max - t_a, t_a, enclosure))
+    return np.any(p_min + np.asarray(offset)[..., None] > q_max[:, None], axis=1)
+
+
+def hot_spot_rise(
+    space: DesignSpace, core: np.ndarray, stack: np.ndarray, wire: np.ndarray, wdg: dict,
+    winding_loss_W: np.ndarray, core_loss_W: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Rise of the hottest point over the surface, (winding, core), each (n, K) [K].
+
+    Winding: its loss generated evenly in a slab of the winding's build, cooled on its
+    outer face only (the inner face on the bobbin taken as insulated), of area MLT x
+    window breadth, conducting across the layers (`thermal.winding_conductivity_across_layers`,
+    copper and insulation in series). Core: its loss generated evenly in the centre leg
+    (ring: its cross-section), conducted to both faces across the smaller side of the leg
+    (`thermal.slab_generation_rise`, plane wall with generation). Common-practice geometry
+    (no source); the conduction laws from Incropera et al., 6th ed., ch. 3."""
+    c, w = space.cores, space.wires
+    pitch = w.outer_m[wire]
+    copper = np.where(w.kind[wire] == 2, w.foil_thickness_m[wire],
+                      w.copper_area_m2[wire] / np.maximum(pitch, 1e-12))
+    k_winding = thermal.winding_conductivity_across_layers(pitch, copper)
+    area = wdg["mlt_m"] * c.breadth_m[core]
+    build = wdg["build_m"]
+    winding_rise = thermal.slab_generation_rise(
+        winding_loss_W, build[:, None], area[:, None], k_winding[:, None]
+    )
+    family = c.family[core]
+    stack_f = stack.astype(float)
+    side = np.where(
+        family == 1, c.leg_width_m[core],
+        np.minimum(c.leg_width_m[core], c.leg_depth_m[core] * np.where(family == 0, stack_f, 1)),
+    )
+    side = np.where(family == 2, np.minimum(c.leg_width_m[core], c.height_m[core] * stack_f), side)
+    half = 0.5 * side
+    ve = c.ve_m3[core] * stack_f
+    core_rise = thermal.slab_generation_rise(
+        core_loss_W, half[:, None], (ve / half)[:, None], thermal.CORE_CONDUCTIVITY_W_MK
+    )
+    return winding_rise, core_rise
 
 
 @_quiet
@@ -844,21 +1001,24 @@ def combine_stage(
     mag: dict[str, np.ndarray],
     wdg: dict[str, np.ndarray],
     loss_coefficients: tuple | None = None,
+    *,
+    wire: np.ndarray,
 ) -> dict[str, np.ndarray]:
-    """Loss-temperature fixed point at every operating point, objectives and the final
-    constraints, for candidates whose stage outputs ``mag`` and ``wdg`` are row-aligned."""
+    """Loss-temperature fixed point at every operating point, hot spot, objectives and the
+    final constraints, for candidates whose stage outputs ``mag`` and ``wdg`` are
+    row-aligned (``wire``, per candidate, sets the winding's conductivity for the hot
+    spot). The temperature limit applies to the hot spot."""
     m, c = space.materials, space.cores
     req, op = space.requirements, space.operating
     t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
     core_ref = mag["core_loss_reference_W"]
     a0, a1, a2 = loss_coefficients or loss_quadratic(space, material, mag, wdg)
-    surface = wdg["surface_m2"][:, None]
-    height = wdg["box_height_m"][:, None]
-    ve = (c.ve_m3[core] * stack.astype(float))[:, None]
-    fixed = thermal.loss_temperature_fixed_point(
-        req.ambient_C, (a0, a1, a2), surface, height, emissivity=req.emissivity,
-        model=req.thermal_model, ve_m3=ve,
-    )
+    reference_C, kwargs, conduction_inside = thermal_setup(space, core, stack, wdg)
+    per_point = {
+        name: (value[:, None] if isinstance(value, np.ndarray) and value.ndim == 1 else value)
+        for name, value in kwargs.items()
+    }
+    fixed = thermal.loss_temperature_fixed_point(reference_C, (a0, a1, a2), **per_point)
     temperature = fixed.temperature_C
     runaway = fixed.runaway
     safe_t = np.where(runaway, req.max_temperature_C, temperature)
@@ -873,9 +1033,14 @@ def combine_stage(
     )
     point_loss = core_loss + dc_loss + ac_loss
     weighted_loss = point_loss @ op.share
+    winding_rise, core_rise = hot_spot_rise(
+        space, core, stack, wire, wdg, dc_loss + ac_loss, core_loss
+    )
+    hot_rise = np.maximum(winding_rise, core_rise)
+    hotspot = np.where(runaway, thermal.RUNAWAY_TEMPERATURE_C, temperature + hot_rise)
     worst_t = temperature.max(axis=1)
+    worst_hot = hotspot.max(axis=1)
     any_runaway = runaway.any(axis=1)
-
     core_mass = geometry.core_mass(c.ve_m3[core], m.density[material], stack.astype(float))
     mass = core_mass + wdg["copper_mass_kg"]
     cost = (
@@ -884,7 +1049,9 @@ def combine_stage(
     temperature_span = req.max_temperature_C - req.ambient_C
     return {
         "temperature_C": temperature,
+        "hotspot_temperature_C": hotspot,
         "runaway": runaway,
+        "thermal_inside_range": np.all(fixed.inside_range, axis=1) & conduction_inside,
         "core_loss_W": core_loss,
         "winding_dc_loss_W": dc_loss,
         "winding_ac_loss_W": ac_loss,
@@ -892,11 +1059,14 @@ def combine_stage(
         "core_loss_temperature_factor": ct,
         "weighted_loss_W": weighted_loss,
         "worst_temperature_C": np.where(any_runaway, thermal.RUNAWAY_TEMPERATURE_C, worst_t),
+        "worst_hotspot_temperature_C": np.where(
+            any_runaway, thermal.RUNAWAY_TEMPERATURE_C, worst_hot
+        ),
         "volume_cm3": wdg["volume_m3"] * 1e6,
         "mass_g": mass * 1e3,
         "cost": cost,
         "violation_temperature": np.where(
-            any_runaway, 1.0, (worst_t - req.max_temperature_C) / temperature_span
+            any_runaway, 1.0, (worst_hot - req.max_temperature_C) / temperature_span
         ),
         "violation_loss_budget": weighted_loss / req.max_loss_W - 1.0,
         "violation_mass": mass / req.max_mass_kg - 1.0,
@@ -955,7 +1125,8 @@ def evaluate(space: DesignSpace, candidates: Candidates) -> dict[str, np.ndarray
     wdg.update(winding_loss_stage(space, cand.turns, cand.wire, cand.parallel, wdg, cand.core))
     rows = np.arange(len(cand))
     wdg.update(winding_ac_loss(mag, rows, wdg, rows))
-    final = combine_stage(space, cand.material, cand.stack, cand.core, cand.turns, mag, wdg)
+    final = combine_stage(space, cand.material, cand.stack, cand.core, cand.turns, mag, wdg,
+                          wire=cand.wire)
     metrics = {**mag, **wdg, **final}
     violations = violations_matrix(metrics)
     metrics["feasible"] = ~(violations > 0).any(axis=1)

@@ -610,6 +610,7 @@ def face_coefficients(
     air_speed_m_s: ArrayLike = 0.0,
     *,
     vertical: str = "churchill_chu",
+    flags: bool = True,
 ) -> FaceCoefficients:
     """Convection and radiation coefficients of a box's free faces, face by face.
 
@@ -630,6 +631,9 @@ def face_coefficients(
     vertical : {"churchill_chu", "churchill_chu_laminar"}, optional
         Correlation for the vertical faces: the all-range form (default) or the laminar
         form (an alternative inside Ra <= 1e9, used for the uncertainty band) [-]
+    flags : bool, optional
+        Whether to judge the ranges (False: `inside_range` is a plain True, for the
+        solver's trial states) [-]
 
     Returns
     -------
@@ -659,63 +663,84 @@ def face_coefficients(
     ch. 7 and 9; the individual correlations' sources.
     """
     rise = np.maximum(np.asarray(rise_K, dtype=float), 0.0)
-    ambient_K = np.asarray(ambient_C, dtype=float) + ZERO_CELSIUS_K
-    film = ambient_K + 0.5 * rise
-    air = air_properties(film)
+    film = np.asarray(ambient_C, dtype=float) + ZERO_CELSIUS_K + 0.5 * rise
+    # One table lookup for the three properties used (the same interpolation as
+    # `air_properties`).
+    table = AIR_TABLE
+    position = np.clip(
+        np.searchsorted(table[:, 0], film, side="right") - 1, 0, len(table) - 2
+    )
+    lower_T = table[position, 0]
+    share = np.clip((film - lower_T) / (table[position + 1, 0] - lower_T), 0.0, 1.0)
+
+    def column(j: int) -> FloatArray:
+        low = table[position, j]
+        return low + share * (table[position + 1, j] - low)
+
+    viscosity, k, diffusivity, prandtl = column(1), column(2), column(3), column(4)
     length = np.asarray(length_m, dtype=float)
     width = np.asarray(width_m, dtype=float)
     height = np.asarray(height_m, dtype=float)
-    k = air.conductivity_W_mK
-    scale = GRAVITY / film * rise / (air.kinematic_viscosity_m2_s * air.diffusivity_m2_s)
+    scale = GRAVITY / film * rise / (viscosity * diffusivity)
+    prandtl_base = 1.0 + (0.492 / prandtl) ** (9.0 / 16.0)
 
     ra_side = scale * height**3
     if vertical == "churchill_chu":
-        nu_side = nusselt_vertical_plate(ra_side, air.prandtl)
-        ok = _inside("vertical_churchill_chu", ra_side)
+        nu_side = (0.825 + 0.387 * ra_side ** (1.0 / 6.0) / prandtl_base ** (8.0 / 27.0)) ** 2
     elif vertical == "churchill_chu_laminar":
-        nu_side = nusselt_vertical_plate_laminar(ra_side, air.prandtl)
-        ok = _inside("vertical_churchill_chu_laminar", ra_side)
+        nu_side = 0.68 + 0.670 * np.sqrt(np.sqrt(ra_side)) / prandtl_base ** (4.0 / 9.0)
     else:
         raise ValueError(f"unknown vertical-face correlation {vertical!r}")
     h_side = nu_side * k / height
 
     top_length = length * width / (2.0 * (length + width))
     ra_top = scale * top_length**3
-    high = ra_top >= CORRELATION_RANGES["upper_hot_lloyd_moran"][0]
-    nu_top = np.where(
-        high,
-        nusselt_upper_hot_surface(ra_top),
-        nusselt_upper_hot_surface_low_rayleigh(ra_top, air.prandtl),
+    handover = CORRELATION_RANGES["upper_hot_lloyd_moran"][0]
+    high = ra_top >= handover
+    # Small-plate form (Raithby-Hollands) below the Lloyd-Moran range, as in
+    # `nusselt_upper_hot_surface_low_rayleigh`.
+    thin = 0.835 * 0.671 / prandtl_base ** (4.0 / 9.0) * np.sqrt(np.sqrt(np.maximum(ra_top, 1e-12)))
+    nu_top = 1.4 / np.log1p(1.4 / thin)
+    if np.any(high):
+        nu_top = np.where(high, nusselt_upper_hot_surface(ra_top), nu_top)
+    h_top = nu_top * k / top_length
+
+    speed = np.asarray(air_speed_m_s, dtype=float)
+    forced = bool(np.any(speed > 0))
+    if forced:
+        flow_length = np.maximum(length, width)
+        reynolds = speed * flow_length / viscosity
+        h_forced = nusselt_flat_plate_laminar(reynolds, prandtl) * k / flow_length
+        h_side = combine_mixed_convection(h_forced, h_side)
+        h_top = combine_mixed_convection(h_forced, h_top)
+
+    e = np.asarray(emissivity, dtype=float)
+    h_rad = _radiation_h(np.asarray(ambient_C) + rise, ambient_C, e)
+    if not flags:
+        return FaceCoefficients(h_side, h_top, h_rad, np.ones((), dtype=bool))
+    vertical_name = (
+        "vertical_churchill_chu" if vertical == "churchill_chu"
+        else "vertical_churchill_chu_laminar"
     )
-    ok = ok & np.where(
+    ok = _inside(vertical_name, ra_side) & np.where(
         high,
         _inside("upper_hot_lloyd_moran", ra_top),
         _inside("upper_hot_raithby_hollands", ra_top),
     )
-    h_top = nu_top * k / top_length
-
-    speed = np.asarray(air_speed_m_s, dtype=float)
-    if np.any(speed > 0):
-        flow_length = np.maximum(length, width)
-        reynolds = speed * flow_length / air.kinematic_viscosity_m2_s
-        h_forced = nusselt_flat_plate_laminar(reynolds, air.prandtl) * k / flow_length
-        h_side = combine_mixed_convection(h_forced, h_side)
-        h_top = combine_mixed_convection(h_forced, h_top)
+    if forced:
         ok = ok & _inside("flat_plate_laminar_reynolds", reynolds)
-
-    ok = ok & _inside("air_film_K", film)
-    e = np.asarray(emissivity, dtype=float)
-    ok = ok & (e >= 0.0) & (e <= 1.0)
-    h_rad = _radiation_h(np.asarray(ambient_C) + rise, ambient_C, e)
+    ok = ok & _inside("air_film_K", film) & (e >= 0.0) & (e <= 1.0)
     return FaceCoefficients(h_side, h_top, h_rad, np.asarray(ok))
 
 
-def _faces_conductance(rise_K: FloatArray, part: ThermalContext, vertical: str):
+def _faces_conductance(
+    rise_K: FloatArray, part: ThermalContext, vertical: str, flags: bool = False
+):
     if part.length_m is None or part.width_m is None:
         raise ValueError("the face-by-face thermal model needs length_m and width_m")
     faces = face_coefficients(
         rise_K, part.ambient_C, part.length_m, part.width_m, part.height_m, part.emissivity,
-        part.air_speed_m_s, vertical=vertical,
+        part.air_speed_m_s, vertical=vertical, flags=flags,
     )
     length = np.asarray(part.length_m)
     width = np.asarray(part.width_m)
@@ -926,11 +951,11 @@ def _inside_ferrite(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool
 
 
 def _inside_faces(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
-    return _faces_conductance(rise_K, part, "churchill_chu")[1].inside_range
+    return _faces_conductance(rise_K, part, "churchill_chu", True)[1].inside_range
 
 
 def _inside_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
-    return _faces_conductance(rise_K, part, "churchill_chu_laminar")[1].inside_range
+    return _faces_conductance(rise_K, part, "churchill_chu_laminar", True)[1].inside_range
 
 
 RangeFlags = Callable[[FloatArray, ThermalContext], NDArray[np.bool_]]
@@ -1204,29 +1229,76 @@ def loss_temperature_fixed_point(
     outside = np.asarray(ambient_C, dtype=float)
     if outside.ndim:
         raise ValueError("an enclosure needs one outside ambient temperature")
-    air_rise = np.zeros(())
-    settled = False
+    a0, a1, a2 = (np.asarray(a, dtype=float) for a in loss_coefficients)
+    shape = np.broadcast_shapes(
+        a0.shape, a1.shape, a2.shape, np.shape(heat_offset_W),
+        *(np.shape(v) for v in context.values() if v is not None),
+    )
+
+    def flat(value: ArrayLike | None) -> NDArray[np.floating] | None:
+        if value is None:
+            return None
+        return np.broadcast_to(np.asarray(value, dtype=float), shape).ravel()
+
+    coefficients = tuple(flat(a) for a in (a0, a1, a2))
+    parts = {name: flat(value) for name, value in context.items()}
+    options["heat_offset_W"] = flat(heat_offset_W)
+    count = coefficients[0].size
+    table_heat = enclosure_heat_shed(_ENCLOSURE_RISES, float(outside), enclosure)
+    # First guess: the inside air heated by the loss at the outside temperature.
+    t0 = float(outside)
+    air_rise = np.interp(
+        np.maximum(coefficients[0] + t0 * (coefficients[1] + coefficients[2] * t0), 0.0),
+        table_heat, _ENCLOSURE_RISES, left=0.0,
+    )
+    temperature = np.empty(count)
+    loss = np.empty(count)
+    runaway = np.ones(count, dtype=bool)
+    conductance = np.zeros(count)
+    inside = np.ones(count, dtype=bool)
+    active = np.arange(count)
+    previous_air = np.full(count, np.nan)
+    previous_new = np.full(count, np.nan)
     for _ in range(_ENCLOSURE_STEPS):
-        result = _fixed_point(outside + air_rise, loss_coefficients, context, **options)
+        result = _fixed_point(
+            t0 + air_rise[active],
+            tuple(a[active] for a in coefficients),
+            {k: (None if v is None else v[active]) for k, v in parts.items()},
+            **{**options, "heat_offset_W": options["heat_offset_W"][active]},
+        )
+        temperature[active], loss[active] = result.temperature_C, result.loss_W
+        runaway[active], conductance[active] = result.runaway, result.conductance_W_K
+        inside[active] = result.inside_range
         heat = np.where(result.runaway, 0.0, result.loss_W)
-        new_rise = enclosure_air_rise(heat, float(outside), enclosure)
-        change = np.abs(new_rise - air_rise)
-        air_rise = new_rise
-        if np.all(change <= 1e-6 * (1.0 + new_rise)):
-            settled = True
+        new_rise = np.interp(heat, table_heat, _ENCLOSURE_RISES, left=0.0)
+        current = air_rise[active]
+        moving = ~result.runaway & (np.abs(new_rise - current) > _ENCLOSURE_TOLERANCE_K)
+        # Secant step on air = E(P(T(air))): the plain update contracts slowly when the
+        # loss rises steeply with temperature in a small box.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            slope = (new_rise - previous_new[active]) / (current - previous_air[active])
+        usable = np.isfinite(slope) & (slope < 0.9)
+        step = np.where(usable, (new_rise - current) / (1.0 - np.where(usable, slope, 0.0)),
+                        new_rise - current)
+        previous_air[active], previous_new[active] = current, new_rise
+        air_rise[active] = np.maximum(current + step, 0.0)
+        active = active[moving]
+        if active.size == 0:
             break
-    if settled:
-        return result
-    unsettled = change > 1e-6 * (1.0 + air_rise)
-    runaway = result.runaway | unsettled
+    # A part whose inside air has not settled is reported as runaway (conservative).
+    runaway[active] = True
+    inside[active] = True
+    temperature = np.where(runaway, RUNAWAY_TEMPERATURE_C, temperature)
     return ThermalEquilibrium(
-        np.where(runaway, RUNAWAY_TEMPERATURE_C, result.temperature_C),
-        result.loss_W, runaway, result.conductance_W_K, result.inside_range | runaway,
+        temperature.reshape(shape)[()], loss.reshape(shape)[()], runaway.reshape(shape)[()],
+        conductance.reshape(shape)[()], inside.reshape(shape)[()],
     )
 
 
-# Rounds of inside-air updates for a part in an enclosure.
+# Rounds of inside-air updates for a part in an enclosure, and the change of the inside
+# air rise [K] below which it has settled.
 _ENCLOSURE_STEPS = 40
+_ENCLOSURE_TOLERANCE_K = 1e-6
 
 
 def _fixed_point(

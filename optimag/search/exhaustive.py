@@ -324,7 +324,7 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
         coefficients = tuple(a[keep] for a in coefficients)
     final = model.combine_stage(
         space, candidates.material, candidates.stack, candidates.core, candidates.turns,
-        mag_part, wdg_part, coefficients,
+        mag_part, wdg_part, coefficients, wire=candidates.wire,
     )
     metrics = {**mag_part, **wdg_part, **final}
     violations = model.violations_matrix(metrics)

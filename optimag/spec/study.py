@@ -192,8 +192,50 @@ class ModelChoices(_Section):
     """``[model]``: which interchangeable physics models to use."""
 
     fringing: Literal["mclyman", "muhlethaler", "ideal"] = "mclyman"
-    thermal: Literal["convection", "mclyman", "ferrite_rth"] = "convection"
-    emissivity: Fraction = 0.9
+    thermal: Literal["faces", "convection", "mclyman", "ferrite_rth"] = "faces"
+
+
+NonNegative = Annotated[float, Strict(), AllowInfNan(False), Field(ge=0)]
+
+#: Keys of ``[cooling]`` each mode needs (and only that mode accepts).
+COOLING_MODE_KEYS: dict[str, tuple[str, ...]] = {
+    "free_air": (),
+    "on_board": ("board_temperature_C", "board_copper_area_mm2"),
+    "enclosure": ("enclosure_volume_cm3",),
+    "forced_air": ("air_speed_m_s",),
+    "potted": ("potting_conductivity_W_mK", "potting_thickness_mm", "wall_temperature_C"),
+}
+
+
+class Cooling(_Section):
+    """``[cooling]``: how the part sheds its heat.
+
+    ``free_air`` (default): still air around the part, which stands on a board that takes
+    no heat (the face toward the board neither convects nor radiates). ``on_board``: the
+    same, plus conduction through the terminals and the footprint into a board at
+    ``board_temperature_C`` with ``board_copper_area_mm2`` of copper. ``enclosure``: the
+    part in the still air of a closed box of ``enclosure_volume_cm3``, the box cooled by the
+    air outside at ``limits.ambient_C``. ``forced_air``: an air stream of ``air_speed_m_s``
+    along the part. ``potted``: ``potting_thickness_mm`` of compound of
+    ``potting_conductivity_W_mK`` between the part's free faces and a wall at
+    ``wall_temperature_C``. Emissivities of the core and the winding surface weigh the
+    radiation of the visible faces.
+    """
+
+    mode: Literal["free_air", "on_board", "enclosure", "forced_air", "potted"] = "free_air"
+    board_temperature_C: Celsius | None = None
+    board_copper_area_mm2: NonNegative | None = None
+    enclosure_volume_cm3: PositiveNumber | None = None
+    air_speed_m_s: Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=50)] | None = (
+        None
+    )
+    potting_conductivity_W_mK: Annotated[
+        float, Strict(), AllowInfNan(False), Field(gt=0, le=400)
+    ] | None = None
+    potting_thickness_mm: PositiveNumber | None = None
+    wall_temperature_C: Celsius | None = None
+    core_emissivity: Fraction = 0.9
+    winding_emissivity: Fraction = 0.85
 
 
 class Cost(_Section):
@@ -218,6 +260,7 @@ class Study(_Section):
     search: Search
     catalog: CatalogRef
     model: ModelChoices = ModelChoices()
+    cooling: Cooling = Cooling()
     cost: Cost = Cost()
     custom_core: CustomCore | None = None
     tolerance: ToleranceSpec = ToleranceSpec()
@@ -307,6 +350,7 @@ _SECTION_MODELS: dict[str, type[_Section]] = {
     "search": Search,
     "catalog": CatalogRef,
     "model": ModelChoices,
+    "cooling": Cooling,
     "cost": Cost,
     "custom_core": CustomCore,
     "tolerance": ToleranceSpec,
@@ -468,6 +512,8 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
     inductor = sections.get("inductor")
     limits = sections.get("limits")
     search = sections.get("search")
+    cooling = sections.get("cooling")
+    choices = sections.get("model")
 
     if points:
         first_index: dict[str, int] = {}
@@ -554,6 +600,9 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
             )
         )
 
+    if cooling:
+        faults.extend(_cooling_faults(cooling, limits, choices))
+
     if search:
         for low, high in (
             ("turns_min", "turns_max"),
@@ -584,6 +633,50 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
                     'required (a non-empty list of spacer thicknesses in mm) when gap = "grid"',
                 )
             )
+    return faults
+
+
+def _cooling_faults(cooling: Cooling, limits: Limits | None, choices: Any) -> list:
+    faults: list[tuple[str, str]] = []
+    mode = cooling.mode
+    for key in COOLING_MODE_KEYS[mode]:
+        if getattr(cooling, key) is None:
+            faults.append((f"cooling.{key}", f'required when mode = "{mode}"'))
+    for other, keys in COOLING_MODE_KEYS.items():
+        for key in keys:
+            if other != mode and getattr(cooling, key) is not None:
+                faults.append(
+                    (
+                        f"cooling.{key}",
+                        f'applies only with mode = "{other}"; this study has mode = "{mode}"',
+                    )
+                )
+    board = cooling.board_temperature_C
+    if mode == "on_board" and limits and board is not None and board < limits.ambient_C:
+        faults.append(
+            (
+                "cooling.board_temperature_C",
+                f"must be at least limits.ambient_C ({limits.ambient_C:g} °C): the board "
+                f"under a dissipating part is no cooler than the air; got {board:g} °C",
+            )
+        )
+    wall = cooling.wall_temperature_C
+    if mode == "potted" and limits and wall is not None and wall >= limits.max_temperature_C:
+        faults.append(
+            (
+                "cooling.wall_temperature_C",
+                f"must be below limits.max_temperature_C ({limits.max_temperature_C:g} °C), "
+                f"or no design can stay below it; got {wall:g} °C",
+            )
+        )
+    if choices is not None and mode != "free_air" and choices.thermal != "faces":
+        faults.append(
+            (
+                "model.thermal",
+                f'"{choices.thermal}" is a whole-part law for still free air; with cooling '
+                f'mode = "{mode}" use thermal = "faces"',
+            )
+        )
     return faults
 
 

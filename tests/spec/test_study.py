@@ -183,11 +183,9 @@ def test_defaults_of_omitted_sections(tmp_path: Path) -> None:
         64,
         "solve",
     )
-    assert (study.model.fringing, study.model.thermal, study.model.emissivity) == (
-        "mclyman",
-        "convection",
-        0.9,
-    )
+    assert (study.model.fringing, study.model.thermal) == ("mclyman", "faces")
+    assert (study.cooling.mode, study.cooling.core_emissivity) == ("free_air", 0.9)
+    assert study.cooling.winding_emissivity == 0.85
     assert (study.cost.labour_per_turn, study.cost.currency) == (0.02, "cu")
     assert study.title == "Minimal <b>study</b> & friends"
 
