@@ -21,6 +21,7 @@ records built by the exporter.
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 import warnings
 from dataclasses import dataclass
@@ -1273,3 +1274,82 @@ def inductance_curve(
         saturated = magnetic.inductance(n_turns, magnetic.core_reluctance(le, ae, 1.0) + r_gap)
     ferrite = np.where(current <= current_at_bsat, l0, saturated)
     return np.where((m.kind[material] == 1)[:, None], powder, ferrite)
+
+
+#: Whole-part laws for still free air, applicable as alternatives in "free_air" only.
+FREE_AIR_ALTERNATIVES = ("convection", "mclyman", "ferrite_rth")
+
+#: Words for each thermal model in records and reports.
+THERMAL_MODEL_WORDS = {
+    "faces": "face by face: Churchill-Chu (sides), Lloyd-Moran/Goldstein or Raithby-Hollands "
+             "(top), radiation",
+    "faces_laminar": "face by face with the laminar Churchill-Chu form on the sides",
+    "convection": "one natural-convection coefficient for the whole part (Holman) + radiation",
+    "mclyman": "McLyman's temperature rise from loss per surface",
+    "ferrite_rth": "ferrite core thermal resistance from Ve (Maniktala)",
+    "faces_edges_corners": "compound: plane walls plus edge and corner shape factors",
+    "faces_only": "compound: plane walls over the faces only",
+    "outer_faces": "compound: plane walls of the outer (wall-side) area",
+}
+
+
+def thermal_alternatives(space: DesignSpace) -> list[tuple[str, DesignSpace]]:
+    """The study's thermal model first, then the published alternatives that apply to its
+    cooling: the laminar vertical-face form; in still free air also the whole-part laws;
+    for a potted part the lower and upper bounds of the compound's conduction shape."""
+    req = space.requirements
+    cool = req.cooling
+    if cool.mode == "potted":
+        shapes = ("faces_edges_corners", "faces_only", "outer_faces")
+        return [
+            (shape, dataclasses.replace(space, requirements=dataclasses.replace(
+                req, cooling=dataclasses.replace(cool, potting_shape=shape))))
+            for shape in shapes
+        ]
+    names = ["faces", "faces_laminar"]
+    if cool.mode == "free_air":
+        names += list(FREE_AIR_ALTERNATIVES)
+    names = [req.thermal_model] + [n for n in names if n != req.thermal_model]
+    return [
+        (name, dataclasses.replace(
+            space, requirements=dataclasses.replace(req, thermal_model=name)))
+        for name in names
+    ]
+
+
+def temperature_band(space: DesignSpace, candidates: Candidates) -> dict[str, object]:
+    """Spread of the worst hot-spot temperature between the thermal models that apply.
+
+    Each alternative of `thermal_alternatives` is evaluated with the same model otherwise;
+    an alternative counts for a design where it is inside its published range and finds
+    an equilibrium (Maniktala's ferrite law for ferrite cores only). The study's own model
+    always counts. Returns ``low_C`` and ``high_C`` (n,), ``models`` (per design, the names
+    that counted) and ``runaway_models`` (per design, the alternatives inside their range
+    that find no equilibrium).
+    """
+    n = len(candidates)
+    low = np.full(n, np.inf)
+    high = np.full(n, -np.inf)
+    counted: list[list[str]] = [[] for _ in range(n)]
+    runaway: list[list[str]] = [[] for _ in range(n)]
+    ferrite = space.materials.kind[candidates.material] == 0
+    for position, (name, variant) in enumerate(thermal_alternatives(space)):
+        metrics = evaluate(variant, candidates)
+        hot = metrics["worst_hotspot_temperature_C"]
+        stuck = metrics["runaway"].any(axis=1)
+        applies = metrics["thermal_inside_range"].copy()
+        if name == "ferrite_rth":
+            applies &= ferrite
+        if position == 0:
+            applies[:] = True
+        use = applies & ~stuck
+        low = np.where(use, np.minimum(low, hot), low)
+        high = np.where(use, np.maximum(high, hot), high)
+        for i in np.flatnonzero(use):
+            counted[i].append(name)
+        for i in np.flatnonzero(applies & stuck):
+            runaway[i].append(name)
+    none = ~np.isfinite(low)
+    low = np.where(none, np.nan, low)
+    high = np.where(none, np.nan, high)
+    return {"low_C": low, "high_C": high, "models": counted, "runaway_models": runaway}

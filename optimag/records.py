@@ -142,9 +142,32 @@ register(
     _f("weighted_loss_W", "W", "Weighted loss",
        "Time-share weighted mean over all operating points of each point's total loss: "
        "the loss objective", 3, "weighted"),
-    _f("temperature_C", "°C", "Temperature",
-       "Settled hot-spot temperature at the operating point (the hottest point in the "
-       "record)", 3, "point"),
+    _f("temperature_C", "°C", "Surface temperature",
+       "Settled surface temperature of the part at the operating point, where the loss "
+       "equals the heat shed to the surroundings", 3, "point"),
+    _f("hotspot_temperature_C", "°C", "Hot-spot temperature",
+       "Hottest point inside the part at the operating point: the surface temperature plus "
+       "the conduction rise from the winding's innermost layer (or the core's centre, "
+       "whichever is higher) to the surface; the temperature limit applies to it (the "
+       "record's operating point is the one where it is highest)", 3, "point"),
+    _f("temperature_band_C", "°C", "Hot-spot band",
+       "Lowest and highest worst hot-spot temperature over the thermal models that apply "
+       "to this cooling and are inside their published ranges (the study's model always "
+       "counts)", 3, "worst"),
+    _f("temperature_band_low_C", "°C", "Hot-spot band, low end",
+       "Lower end of temperature_band_C", 3, "worst"),
+    _f("temperature_band_high_C", "°C", "Hot-spot band, high end",
+       "Upper end of temperature_band_C", 3, "worst"),
+    _f("thermal_model", "", "Thermal model",
+       "The study's thermal model (face by face unless chosen otherwise)", None, "text"),
+    _f("cooling_mode", "", "Cooling",
+       "How the part sheds heat: free_air, on_board, enclosure, forced_air or potted",
+       None, "text"),
+    _f("thermal_in_range", "", "Thermal model in range",
+       "True when every correlation and conduction shape the thermal model used stayed "
+       "inside its published range at every operating point", None, "text"),
+    _f("temperature_band_models", "", "Models in the band",
+       "The thermal models the band spans", None, "text"),
     _f("time_share", "", "Time share", "Share of operating time at the point", 3, "point"),
     _f("name", "", "Operating point", "Name of the operating point", None, "text"),
     # --- winding ------------------------------------------------------------------
@@ -235,7 +258,8 @@ PARETO_COLUMNS = [
     "design_id", "core", "family", "material", "material_kind", "stack", "turns", "gap_mm",
     "wire", "wire_kind", "parallel", "volume_cm3", "weighted_loss_W", "cost", "mass_g",
     "operating_point", "total_loss_W", "core_loss_W", "winding_dc_loss_W",
-    "winding_ac_loss_W", "temperature_C", "peak_flux_T", "fill_factor", "inductance_uH",
+    "winding_ac_loss_W", "temperature_C", "hotspot_temperature_C", "peak_flux_T",
+    "fill_factor", "inductance_uH",
     "inductance_at_peak_uH", "knee",
 ]
 
@@ -252,8 +276,10 @@ SHORTLIST_COLUMNS = [
     "wire_kind", "parallel", "layers", "fill_factor", "inductance_uH",
     "inductance_at_peak_uH", "al_value_nH", "peak_current_A", "peak_flux_T",
     "flux_limit_T", "weighted_loss_W", "operating_point", "total_loss_W", "core_loss_W",
-    "winding_dc_loss_W", "winding_ac_loss_W", "temperature_C", "flux_swing_T", "dcm",
-    "dc_resistance_20C_mOhm", "dc_resistance_mOhm", "winding_length_m",
+    "winding_dc_loss_W", "winding_ac_loss_W", "temperature_C", "hotspot_temperature_C",
+    "temperature_band_low_C", "temperature_band_high_C", "thermal_model", "cooling_mode",
+    "thermal_in_range", "flux_swing_T", "dcm", "dc_resistance_20C_mOhm",
+    "dc_resistance_mOhm", "winding_length_m",
     "lead_allowance_mm", "wire_length_m", "copper_mass_g", "box_length_mm", "box_width_mm",
     "box_height_mm", "volume_cm3", "mass_g", "cost", "area_product_cm4",
     "area_product_required_cm4", "geometry_coefficient_cm5",
@@ -262,14 +288,16 @@ SHORTLIST_COLUMNS = [
 
 #: Fields every short-list record carries (shortlist.json).
 RECORD_FIELDS = (
-    *SHORTLIST_COLUMNS, "feasible", "per_operating_point", "inputs", "margins",
+    *SHORTLIST_COLUMNS, "temperature_band_C", "temperature_band_models", "feasible",
+    "per_operating_point", "inputs", "margins",
     "inductance_curve", "winding", "parts", "model_notes",
 )
 
 #: Figures of each per_operating_point entry (besides ``inputs``).
 POINT_FIELDS = (
     "name", "time_share", "core_loss_W", "winding_dc_loss_W", "winding_ac_loss_W",
-    "total_loss_W", "peak_flux_T", "flux_swing_T", "peak_current_A", "temperature_C", "dcm",
+    "total_loss_W", "peak_flux_T", "flux_swing_T", "peak_current_A", "temperature_C",
+    "hotspot_temperature_C", "dcm",
 )
 
 #: Fields of an ``inputs`` object (a record's is the one of its operating point).
@@ -445,6 +473,7 @@ def design_records(
     `model.inductance_curve`; nothing is recomputed here.
     """
     details = model.design_details(space, candidates, metrics)
+    details["temperature_band"] = model.temperature_band(space, candidates)
     curves = _curves(space, candidates, metrics)
     return [
         _record(space, candidates, metrics, details, curves, i, design_id)
@@ -462,7 +491,7 @@ def _curves(space, candidates, metrics) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _hottest(metrics: dict, i: int) -> int:
-    temps, runaway = metrics["temperature_C"][i], metrics["runaway"][i]
+    temps, runaway = metrics["hotspot_temperature_C"][i], metrics["runaway"][i]
     return int(np.argmax(np.where(runaway, np.inf, temps)))
 
 
@@ -518,6 +547,10 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
             "temperature_C": (
                 None if metrics["runaway"][i, k] else float(metrics["temperature_C"][i, k])
             ),
+            "hotspot_temperature_C": (
+                None if metrics["runaway"][i, k]
+                else float(metrics["hotspot_temperature_C"][i, k])
+            ),
             "dcm": bool(metrics["dcm"][i, k]),
             "inputs": _inputs(space, candidates, metrics, details, i, k),
         })
@@ -525,6 +558,11 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
     family = _FAMILY_NAMES[int(c.family[core])]
     material_kind = _MATERIAL_NAMES[int(m.kind[mat])]
     gap_mm = float(metrics["gap_m"][i] * 1e3)
+    spread = details["temperature_band"]
+    band = (
+        [None, None] if not np.isfinite(spread["low_C"][i])
+        else [float(spread["low_C"][i]), float(spread["high_C"][i])]
+    )
     record = {
         "design_id": design_id,
         "core": str(c.ids[core]),
@@ -555,6 +593,14 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         "winding_dc_loss_W": at["winding_dc_loss_W"],
         "winding_ac_loss_W": at["winding_ac_loss_W"],
         "temperature_C": float(metrics["temperature_C"][i, hot]),
+        "hotspot_temperature_C": float(metrics["hotspot_temperature_C"][i, hot]),
+        "temperature_band_C": band,
+        "temperature_band_low_C": band[0],
+        "temperature_band_high_C": band[1],
+        "temperature_band_models": ", ".join(details["temperature_band"]["models"][i]),
+        "thermal_model": req.thermal_model,
+        "cooling_mode": req.cooling.mode,
+        "thermal_in_range": bool(metrics["thermal_inside_range"][i]),
         "flux_swing_T": at["flux_swing_T"],
         "dcm": at["dcm"],
         "dc_resistance_20C_mOhm": float(metrics["dc_resistance_20C_ohm"][i] * 1e3),
@@ -609,7 +655,9 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         },
     }
     record["parts"] = parts_list(record)
-    record["model_notes"] = _model_notes(space, candidates, metrics, i)
+    record["model_notes"] = _model_notes(
+        space, candidates, metrics, i, spread["runaway_models"][i]
+    )
     if not record["feasible"]:
         viol = model.violations_matrix({k: v[i : i + 1] for k, v in metrics.items()})[0]
         worst = int(np.argmax(viol))
@@ -618,7 +666,7 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
     return record
 
 
-def _model_notes(space, candidates, metrics, i) -> list[str]:
+def _model_notes(space, candidates, metrics, i, runaway_models=()) -> list[str]:
     """Where this design's figures rest on a model used outside its stated range."""
     m, c, op = space.materials, space.cores, space.operating
     mat, core = candidates.material[i], candidates.core[i]
@@ -640,6 +688,15 @@ def _model_notes(space, candidates, metrics, i) -> list[str]:
     if gap > 0 and space.requirements.fringing == "mclyman" and gap > c.breadth_m[core]:
         notes.append("gap fringing: gap longer than the winding breadth, beyond the range "
                      "of McLyman's fringing factor")
+    if not metrics["thermal_inside_range"][i]:
+        notes.append(
+            f"thermal: the {space.requirements.thermal_model} model "
+            f"({model.THERMAL_MODEL_WORDS[space.requirements.thermal_model]}) ran outside a "
+            "correlation's or conduction shape's published range at some operating point; "
+            "the nearest correlation was used"
+        )
+    for name in runaway_models:
+        notes.append(f"thermal: the {name} model finds no stable temperature for this design")
     wire = candidates.wire[i]
     depth = winding.skin_depth(op.frequency_Hz, winding.copper_resistivity(100.0))
     if space.wires.kind[wire] == 1 and space.wires.strand_diameter_m[wire] > depth:

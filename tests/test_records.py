@@ -185,3 +185,23 @@ def test_hand_procedure_is_reported_beside_the_front(run):
     assert len(table) >= 1
     assert table["standing"].str.len().min() > 0
     assert (table["area_product_cm4"] >= table["area_product_required_cm4"]).all()
+
+
+
+def test_every_record_names_its_thermal_model_range_and_band(run):
+    """The cargo-bike study is potted: records state the model, the cooling, whether it
+    stayed in range, and a band around the hot spot that the limit applies to."""
+    result, folder = run
+    saved = json.loads((folder / "shortlist.json").read_text(encoding="utf-8"))["designs"]
+    for rec in _all_records(result) + saved:
+        assert rec["thermal_model"] == "faces" and rec["cooling_mode"] == "potted"
+        assert isinstance(rec["thermal_in_range"], bool)
+        low, high = rec["temperature_band_C"]
+        assert (low, high) == (rec["temperature_band_low_C"], rec["temperature_band_high_C"])
+        assert low <= rec["hotspot_temperature_C"] <= high
+        assert rec["hotspot_temperature_C"] >= rec["temperature_C"]
+        assert "faces_edges_corners" in rec["temperature_band_models"]
+        hottest = max(p["hotspot_temperature_C"] for p in rec["per_operating_point"])
+        assert rec["hotspot_temperature_C"] == hottest
+        if rec["feasible"]:
+            assert rec["hotspot_temperature_C"] <= rec["margins"]["temperature_limit_C"]

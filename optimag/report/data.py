@@ -562,12 +562,18 @@ def margin_table(record: dict[str, Any]) -> pd.DataFrame:
     Columns: ``quantity``, ``value``, ``limit``, ``unit``, ``sense`` (``max`` when the
     value must stay at or below the limit, ``min`` when at or above), ``share``
     (value / limit), ``headroom`` (distance to the limit as a fraction of it, positive
-    when inside) and ``within`` (bool).
+    when inside), ``within`` (bool), and ``band_low`` / ``band_high`` (the ends of the
+    value's uncertainty band, NaN where none: the hot spot's spread between the
+    applicable thermal models, ``temperature_band_C``).
+
+    The temperature checked is the hot spot (``hotspot_temperature_C``; records written
+    before it existed fall back to ``temperature_C``).
     """
     margins = record["margins"]
+    hot = record.get("hotspot_temperature_C", record["temperature_C"])
     rows = [
         ("Peak flux density", record["peak_flux_T"], margins["flux_limit_T"], "T", "max"),
-        ("Temperature", record["temperature_C"], margins["temperature_limit_C"], "°C", "max"),
+        ("Hot-spot temperature", hot, margins["temperature_limit_C"], "°C", "max"),
         ("Window fill", record["fill_factor"], margins["fill_limit"], "", "max"),
         (
             "Inductance kept at peak",
@@ -587,6 +593,10 @@ def margin_table(record: dict[str, Any]) -> pd.DataFrame:
     table["within"] = np.where(
         upper, table["value"] <= table["limit"], table["value"] >= table["limit"]
     )
+    band = record.get("temperature_band_C") or [None, None]
+    low, high = (np.nan if v is None else float(v) for v in band)
+    table["band_low"] = np.where(table["quantity"] == "Hot-spot temperature", low, np.nan)
+    table["band_high"] = np.where(table["quantity"] == "Hot-spot temperature", high, np.nan)
     return table
 
 

@@ -488,15 +488,27 @@ def inductance_figure(record: dict[str, Any]) -> go.Figure:
 
 
 def margin_figure(margins: pd.DataFrame) -> go.Figure:
-    """Each checked quantity as a share of its limit; the 100 % line is the limit."""
+    """Each checked quantity as a share of its limit; the 100 % line is the limit. Where
+    the table gives a band (the hot spot's spread between thermal models), an error bar
+    spans it."""
     percent = 100.0 * margins["share"].to_numpy(dtype=float)
     colours = [style.SAGE if ok else style.BRICK for ok in margins["within"]]
     words = []
     for row in margins.itertuples(index=False):
         unit = f" {row.unit}" if row.unit else ""
         relation = "≤" if row.sense == "max" else "≥"
-        words.append(f"{row.value:.3g}{unit}  (limit {relation} {row.limit:.3g}{unit})")
+        text = f"{row.value:.3g}{unit}  (limit {relation} {row.limit:.3g}{unit})"
+        low, high = getattr(row, "band_low", np.nan), getattr(row, "band_high", np.nan)
+        if np.isfinite(low) and np.isfinite(high):
+            text += f"  band {low:.3g}–{high:.3g}{unit}"
+        words.append(text)
     labels = list(margins["quantity"])
+    limit = margins["limit"].to_numpy(dtype=float)
+    low = margins.get("band_low", pd.Series(np.nan, index=margins.index)).to_numpy(float)
+    high = margins.get("band_high", pd.Series(np.nan, index=margins.index)).to_numpy(float)
+    has_band = np.isfinite(low) & np.isfinite(high)
+    above = np.where(has_band, np.maximum(100.0 * high / limit - percent, 0.0), 0.0)
+    below = np.where(has_band, np.maximum(percent - 100.0 * low / limit, 0.0), 0.0)
     traces = [
         go.Bar(
             x=percent,
@@ -507,9 +519,15 @@ def margin_figure(margins: pd.DataFrame) -> go.Figure:
             textposition="auto",
             insidetextanchor="start",
             hovertemplate="%{y}: %{x:.0f} % of the limit<extra></extra>",
+            error_x={
+                "type": "data", "symmetric": False, "array": above, "arrayminus": below,
+                "visible": bool(has_band.any()), "color": style.INK, "thickness": 1.5,
+                "width": 6,
+            },
         )
     ]
-    right = max(125.0, float(np.nanmax(percent)) + 10.0) if len(percent) else 125.0
+    ends = np.concatenate([percent, (percent + above)[has_band]])
+    right = max(125.0, float(np.nanmax(ends)) + 10.0) if len(percent) else 125.0
     return _styled(
         traces,
         height=250,

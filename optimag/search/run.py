@@ -144,6 +144,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         "model": {
             "fringing": space.requirements.fringing,
             "thermal": space.requirements.thermal_model,
+            "cooling": space.requirements.cooling.mode,
+            "temperature_limit_applies_to": "hot spot",
             "core_loss": "iGSE",
             "ac_resistance": "Dowell/Sullivan",
             "harmonics": int(space.operating.harmonics_A.shape[1]),

@@ -168,10 +168,11 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
                 "flux_swing_T": round(0.1 * f_core, 4),
                 "peak_current_A": round(point["load_A"] + 1.2 * f_ac, 3),
                 "temperature_C": round(40 + 9.0 * point_total / math.sqrt(volume), 2),
+                "hotspot_temperature_C": round(42 + 9.5 * point_total / math.sqrt(volume), 2),
                 "dcm": False,
             }
         )
-    hottest = max(points, key=lambda p: p["temperature_C"])
+    hottest = max(points, key=lambda p: p["hotspot_temperature_C"])
     weighted = sum(p["time_share"] * p["total_loss_W"] for p in points)
     box_l, box_w, box_h = core["box"]
     rdc20 = round(1.72e-8 * turns * core["mlt"] / copper_area * 1e6, 3)
@@ -226,6 +227,15 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
         "total_loss_W": hottest["total_loss_W"],
         "weighted_loss_W": weighted,
         "temperature_C": hottest["temperature_C"],
+        "hotspot_temperature_C": hottest["hotspot_temperature_C"],
+        "temperature_band_C": [hottest["hotspot_temperature_C"] - 3.0,
+                               hottest["hotspot_temperature_C"] + 5.0],
+        "temperature_band_low_C": hottest["hotspot_temperature_C"] - 3.0,
+        "temperature_band_high_C": hottest["hotspot_temperature_C"] + 5.0,
+        "temperature_band_models": "faces, faces_laminar, mclyman",
+        "thermal_model": "faces",
+        "cooling_mode": "free_air",
+        "thermal_in_range": True,
         "gap_method": gap_text,
         "gap_centre_leg_mm": gap,
         "gap_outer_leg_mm": 0.0,

@@ -293,6 +293,11 @@ def test_margin_table_limits_and_directions(run_dir: Path) -> None:
     )
     assert flux["headroom"] == pytest.approx(1 - flux["share"])
     assert table.loc["Inductance kept at peak", "sense"] == "min"
+    # The limit applies to the hot spot, shown with its band between thermal models.
+    hot = table.loc["Hot-spot temperature"]
+    assert hot["value"] == record["hotspot_temperature_C"]
+    assert (hot["band_low"], hot["band_high"]) == tuple(record["temperature_band_C"])
+    assert np.isnan(flux["band_low"])
 
     record["peak_flux_T"] = 1.2 * record["margins"]["flux_limit_T"]
     record["margins"]["inductance_at_peak_fraction"] = 0.5

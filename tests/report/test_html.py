@@ -321,3 +321,23 @@ def test_model_range_notes_appear_escaped_on_the_build_sheet(run_dir):
     page = render_report(data.load_run(run_dir))
     assert "outside its range" in page
     assert "fit holds to 0.3 T &lt;b&gt;only&lt;/b&gt;" in page
+
+
+def test_headroom_chart_shows_the_hot_spot_band() -> None:
+    record = {
+        "peak_flux_T": 0.2, "temperature_C": 80.0, "hotspot_temperature_C": 88.0,
+        "temperature_band_C": [84.0, 97.0], "fill_factor": 0.3,
+        "margins": {
+            "flux_limit_T": 0.3, "temperature_limit_C": 100.0, "fill_limit": 0.45,
+            "inductance_at_peak_fraction": 0.9, "inductance_at_peak_limit": 0.8,
+        },
+    }
+    fig = figures.margin_figure(data.margin_table(record))
+    bar = fig.data[0]
+    assert bar.error_x.visible
+    row = list(bar.y).index("Hot-spot temperature")
+    assert bar.x[row] == pytest.approx(88.0)
+    assert bar.error_x.array[row] == pytest.approx(9.0)  # up to 97 % of the limit
+    assert bar.error_x.arrayminus[row] == pytest.approx(4.0)  # down to 84 %
+    assert bar.error_x.array[0] == 0.0
+    assert "band 84–97 °C" in bar.text[row]
