@@ -376,10 +376,14 @@ def display(name: str, value) -> str:
     fig = FIGURES.get(name)
     if fig is not None and fig.decimals is not None:
         return f"{rounded:.{fig.decimals}f}"
-    if rounded != 0 and (abs(rounded) >= 1e6 or abs(rounded) < 1e-4):
-        return f"{rounded:.{fig.digits if fig and fig.digits else 3}g}"
-    text = f"{rounded:f}".rstrip("0").rstrip(".")
-    return text or "0"
+    digits = fig.digits if fig is not None and fig.digits else None
+    if digits is None or rounded == 0:
+        return f"{rounded:g}"
+    if abs(rounded) >= 1e6 or abs(rounded) < 1e-4:
+        return f"{rounded:.{digits}g}"
+    # Keep the significant zeros (11.0, not 11); none past the decimal point of 1230.
+    decimals = max(digits - 1 - math.floor(math.log10(abs(rounded))), 0)
+    return f"{rounded:.{decimals}f}"
 
 
 def number_format(name: str) -> str:
