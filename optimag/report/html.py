@@ -236,9 +236,12 @@ def _number(value: Any, fmt: str) -> str:
 
 def _hand_sizing(run: data.RunData, table: pd.DataFrame) -> str:
     """The classic area-product procedure on this study, beside the front."""
-    if table.empty:
-        return ""
     meta = run.meta.get("hand_sizing") or {}
+    if table.empty:
+        if not meta.get("note"):
+            return ""
+        return _card("The hand procedure on this study (area product)",
+                     f"<p>{escape(meta['note'])}.</p>", spaced=True)
     cost = records.header("cost", run.currency)
     inner = _table(
         ["Design", "Material", records.header("area_product_required_cm4"),

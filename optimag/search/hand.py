@@ -113,6 +113,11 @@ def hand_sizing(
         "designs": [],
     }
     if not picked:
+        out["note"] = (
+            "no ferrite material in this study: the procedure sizes a gapped ferrite core"
+            if not any(space.materials.kind == model.MATERIAL_KIND_CODES["ferrite"])
+            else "no catalogue core meets the required area product"
+        )
         return out
     candidates = model.Candidates(**{
         f: np.concatenate([getattr(p, f) for p in picked])

@@ -100,3 +100,14 @@ def test_every_record_carries_ap_and_kg(result):
         assert rec["geometry_coefficient_required_cm5"] == pytest.approx(kg_required * 1e10,
                                                                          rel=1e-9)
         assert np.isfinite(rec["area_product_required_cm4"])
+
+
+def test_a_powder_only_study_says_why_there_is_no_hand_design(tmp_path):
+    from tests.search.conftest import write_tiny_study
+
+    path = write_tiny_study(tmp_path)
+    path.write_text(path.read_text().replace(
+        'materials = ["fer-lowf", "fer-midf", "pwd-60u"]', 'materials = ["pwd-60u"]'))
+    hand = explore(path, top=3).record["hand_sizing"]
+    assert hand["designs"] == []
+    assert "no ferrite material" in hand["note"]
