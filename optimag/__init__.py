@@ -4,11 +4,12 @@
 >>> study = optimag.load_study("studies/cargo-bike-buck.toml")   # doctest: +SKIP
 >>> result = optimag.explore(study)                               # doctest: +SKIP
 >>> result.pareto, result.shortlist, result.eliminated            # doctest: +SKIP
+>>> optimag.write_run(result, "runs/demo")                        # doctest: +SKIP
 """
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "explore", "load_catalog", "load_study"]
+__all__ = ["__version__", "explore", "load_catalog", "load_study", "write_run"]
 
 
 def load_study(path):
@@ -25,8 +26,26 @@ def load_catalog(folder):
     return _load_catalog(folder)
 
 
-def explore(study, catalog=None, top: int = 20):
-    """Exhaustive search of a study (a Study or a path); see `optimag.search.run.explore`."""
+def explore(study, *, strategy=None, trials=None, seed=None, storage=None, top: int = 20,
+            catalog=None, progress=None, re_evaluate: bool = False):
+    """Run what the study asks: its ``[search] strategy`` (or ``strategy``), exhaustive or
+    optuna, with ``[custom_core]`` searched by optuna. ``study`` is a Study or a path.
+
+    ``trials``, ``seed`` and ``storage`` (SQLAlchemy URL; in memory without it) apply to
+    optuna; ``re_evaluate`` re-scores the trials of a storage started under a different
+    study, catalogue or optimag version (which is refused otherwise). Returns an
+    `ExploreResult`; see `optimag.search.run.explore`.
+    """
     from optimag.search.run import explore as _explore
 
-    return _explore(study, catalog, top=top)
+    return _explore(study, catalog, strategy=strategy, trials=trials, seed=seed,
+                    storage=storage, top=top, progress=progress, re_evaluate=re_evaluate)
+
+
+def write_run(result, folder=None, *, overwrite: bool = False):
+    """Write the run folder of an `explore` result (study copy, run.json, pareto and
+    short-list tables, report) and return its path; see `optimag.runfolder.write_run`.
+    Without ``folder``, a new ``runs/<study>-<timestamp>`` is created."""
+    from optimag.runfolder import write_run as _write_run
+
+    return _write_run(result, folder, overwrite=overwrite)

@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import time
 from pathlib import Path
 
-from optimag.errors import InputError, Problem
+from optimag.errors import InputError, Problem, RunFolderError, StorageError
 
 
 def _print_problems(problems: list[Problem]) -> None:
@@ -46,14 +47,19 @@ def _check(path_text: str) -> int:
     return 0
 
 
+#: Exit codes of the `optimag` command.
+EXIT_OK, EXIT_INFEASIBLE, EXIT_REFUSED, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
+
+
 def _explore(args) -> int:
     from rich.console import Console
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
-    from rich.table import Table
 
+    import optimag
+    from optimag import files
     from optimag.catalog import load_catalog
-    from optimag.runfolder import default_run_dir, write_run
-    from optimag.search.run import check_study_against_catalog, explore
+    from optimag.runfolder import default_run_dir
+    from optimag.search.run import check_study_against_catalog
     from optimag.spec import load_study
 
     console = Console(stderr=True)
@@ -63,22 +69,22 @@ def _explore(args) -> int:
         check_study_against_catalog(study, catalog)
     except InputError as error:
         _print_problems(error.problems)
-        return 2
+        return EXIT_REFUSED
     strategy = args.strategy or study.search.strategy
+    folder_storage = strategy == "optuna" and not args.storage
+    protect = (Path(study.path), Path(catalog.folder))
+    # Every check of the run folder, and its lock, come before the search.
     out_dir = Path(args.out) if args.out else default_run_dir(study)
-    if strategy == "exhaustive" and getattr(study, "custom_core", None) is not None:
-        print("note: [custom_core] is searched by the optuna strategy only "
-              "(--strategy optuna); the exhaustive search covers the catalogue.",
-              file=sys.stderr)
-    if strategy == "optuna":
-        try:
-            from optimag.search.optuna_search import explore_optuna
-        except ImportError:
-            print("the optuna strategy is not available in this version", file=sys.stderr)
-            return 2
-        result = explore_optuna(study, catalog, trials=args.trials, seed=args.seed,
-                                top=args.top, storage=args.storage, run_dir=out_dir)
-    else:
+    with files.claim_run_folder(out_dir, overwrite=args.overwrite,
+                                continue_storage=folder_storage, protect=protect):
+        storage = args.storage
+        if folder_storage:
+            db = out_dir / files.STORAGE_NAME
+            if args.overwrite and db.exists():
+                db.unlink()
+            elif db.exists():
+                print(f"continuing the optuna study kept in {db}", file=sys.stderr)
+            storage = f"sqlite:///{db.resolve()}"
         started = time.perf_counter()
         with Progress(
             TextColumn("[bold]exploring[/bold]"), BarColumn(),
@@ -93,19 +99,42 @@ def _explore(args) -> int:
                 progress.update(task, completed=done, total=total,
                                 rate=f"{done / elapsed:,.0f}/s")
 
-            result = explore(study, catalog, top=args.top, progress=report)
-    run_dir = write_run(result, out_dir)
-    _write_report(run_dir, console)
+            result = optimag.explore(
+                study, catalog=catalog, strategy=strategy, trials=args.trials,
+                seed=args.seed, storage=storage, top=args.top, progress=report,
+                re_evaluate=args.re_evaluate,
+            )
+        try:
+            run_dir = optimag.write_run(result, out_dir, overwrite=args.overwrite)
+        except KeyboardInterrupt:
+            print(f"Interrupted while writing the run folder; {out_dir} keeps its previous "
+                  "contents.", file=sys.stderr)
+            return EXIT_INTERRUPTED
+    return _summarise(result, run_dir)
+
+
+def _summarise(result, run_dir: Path) -> int:
+    """Print the outcome of a written run; the exit code (0, 1 or 130)."""
+    from rich.console import Console
+    from rich.table import Table
+
     counts = result.record["counts"]
     out = Console() if sys.stdout.isatty() else Console(width=160)
+    report_state = result.record.get("report", "written")
+    interrupted = bool(result.record.get("interrupted")) or report_state.startswith(
+        "skipped: interrupted")
     if result.record.get("interrupted"):
         out.print("[yellow]Interrupted: the results below cover the candidates evaluated "
                   "before the stop.[/yellow]")
+    for note in result.record.get("notes", []):
+        out.print(f"note: {note}")
     out.print(
         f"{counts['total']:,} candidates in {result.record['wall_time_s']:.2f} s "
         f"({result.record['candidates_per_s']:,.0f}/s): {counts['feasible']:,} feasible, "
         f"{counts['pareto']} on the Pareto front."
     )
+    if counts.get("not_reached"):
+        out.print(f"{counts['not_reached']:,} candidates of the space were not reached.")
     elim = Table(title="Eliminated by constraint (first failed, in check order)")
     elim.add_column("constraint")
     elim.add_column("candidates", justify="right")
@@ -113,6 +142,8 @@ def _explore(args) -> int:
     for name, count in counts["eliminated"].items():
         elim.add_row(name, f"{count:,}", f"{count / max(counts['total'], 1):.1%}")
     out.print(elim)
+    if report_state != "written":
+        out.print(f"report.html: {report_state}")
     if not result.feasible:
         out.print("[bold red]No candidate meets every constraint.[/bold red] Nearest misses:")
         misses = Table()
@@ -125,7 +156,7 @@ def _explore(args) -> int:
                            f"{rec.get('worst_violation', 0):+.1%}")
         out.print(misses)
         out.print(f"Run record: {run_dir}")
-        return 1
+        return EXIT_INTERRUPTED if interrupted else EXIT_INFEASIBLE
     table = Table(title=f"Short-list (first {min(5, len(result.shortlist_records))}; all in "
                         f"{run_dir / 'shortlist.csv'})")
     for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "weighted loss W", "T °C",
@@ -140,25 +171,19 @@ def _explore(args) -> int:
         )
     out.print(table)
     out.print(f"Results: {run_dir} (report.html, shortlist.csv/.xlsx/.json, pareto.csv, run.json)")
-    return 0
-
-
-def _write_report(run_dir: Path, console) -> None:
-    try:
-        from optimag.report.html import build_report
-    except ImportError:
-        return
-    build_report(run_dir)
+    return EXIT_INTERRUPTED if interrupted else EXIT_OK
 
 
 def _report(args) -> int:
+    from optimag import files
     from optimag.report.html import build_report
 
     run_dir = Path(args.run_dir)
     if not (run_dir / "run.json").is_file():
         print(f"{run_dir}: not a run folder (no run.json)", file=sys.stderr)
         return 2
-    path = build_report(run_dir)
+    with files.claim_run_folder(run_dir, overwrite=True):
+        path = build_report(run_dir)
     print(f"Report: {path}")
     return 0
 
@@ -172,7 +197,16 @@ def build_parser() -> argparse.ArgumentParser:
     check.add_argument("path", help="a study .toml file or a catalogue folder")
     explore = commands.add_parser("explore", help="search the design space of a study")
     explore.add_argument("study", help="the study .toml file")
-    explore.add_argument("--out", help="run folder (default runs/<study>-<timestamp>)")
+    explore.add_argument("--out", help="run folder (default: a new runs/<study>-<timestamp>); "
+                         "refused when it is not empty, unless --overwrite or it holds the "
+                         "optuna storage this run continues")
+    explore.add_argument("--overwrite", action="store_true",
+                         help="replace the contents of a non-empty --out (and start its "
+                              "optuna storage afresh)")
+    explore.add_argument("--re-evaluate", action="store_true", dest="re_evaluate",
+                         help="optuna: re-score every stored trial under the current study "
+                              "when the study, catalogue or optimag version changed since "
+                              "the storage was started")
     explore.add_argument("--top", type=_positive_int, default=20,
                          help="short-list length (default 20)")
     explore.add_argument("--strategy", choices=["exhaustive", "optuna"],
@@ -205,16 +239,32 @@ def _positive_int(text: str) -> int:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Run the command; returns the exit code: 0 success, 1 no feasible design, 2 bad
+    input or refused, 3 internal error, 130 interrupted."""
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
         return _dispatch(parser, args)
     except InputError as error:
         _print_problems(error.problems)
-        return 2
+        return EXIT_REFUSED
+    except (RunFolderError, StorageError) as error:
+        print(f"optimag: {error}", file=sys.stderr)
+        return EXIT_REFUSED
+    except KeyboardInterrupt:
+        print("optimag: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
     except OSError as error:
-        print(f"optimag: {error.strerror or error}: {error.filename or ''}", file=sys.stderr)
-        return 2
+        where = f": {error.filename}" if error.filename and str(error.filename) not in str(
+            error.strerror) else ""
+        print(f"optimag: {error.strerror or error}{where}", file=sys.stderr)
+        return EXIT_REFUSED
+    except Exception as error:  # a bug: say so, with a code no other outcome uses
+        if os.environ.get("OPTIMAG_DEBUG"):
+            raise
+        print(f"optimag: internal error ({type(error).__name__}: {error}); set "
+              "OPTIMAG_DEBUG=1 to see where", file=sys.stderr)
+        return EXIT_INTERNAL
 
 
 def _dispatch(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:

@@ -49,3 +49,13 @@ class InputError(Exception):
 
 class InfeasibleStudyError(Exception):
     """No candidate met every constraint (the run record still explains why)."""
+
+
+class RunFolderError(Exception):
+    """A run cannot use its folder (busy, not empty, a symlink, stale storage); the
+    one-line message says why and what to do instead."""
+
+
+class StorageError(Exception):
+    """An optuna storage cannot be used (unknown scheme, unreachable server, read-only
+    location, missing database); the one-line message never shows a password."""

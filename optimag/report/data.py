@@ -26,7 +26,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from optimag import model, records
+from optimag import files, model, records
 from optimag.errors import InputError, Problem
 
 
@@ -96,7 +96,7 @@ LOSS_SUM_ABSOLUTE_TOLERANCE_W = 1e-6
 GEOMETRY_TOLERANCE_MM = 1e-6
 GEOMETRY_RELATIVE_TOLERANCE = 1e-5
 
-_FOLDER_STAMP = re.compile(r"-(\d{8}-\d{6})$")
+_FOLDER_STAMP = re.compile(r"-(\d{8}-\d{6})(?:\.(\d{3}))?(?:-\d+)?$")
 
 
 @dataclass(frozen=True)
@@ -180,11 +180,16 @@ def _check_record(record: Any, path: Path, position: int, problems: list[Problem
         )
 
 
-def _folder_time(folder: Path) -> datetime | None:
+def folder_time(folder: Path) -> datetime | None:
+    """When a run started: from the folder's time stamp (``<study>-YYYYmmdd-HHMMSS`` with
+    optional ``.mmm`` milliseconds and ``-N`` counter), else run.json's modification time."""
     match = _FOLDER_STAMP.search(folder.name)
     if match:
         try:
-            return datetime.strptime(match.group(1), "%Y%m%d-%H%M%S")
+            stamp = datetime.strptime(match.group(1), "%Y%m%d-%H%M%S")
+            if match.group(2):
+                stamp = stamp.replace(microsecond=int(match.group(2)) * 1000)
+            return stamp
         except ValueError:
             pass
     run_file = folder / "run.json"
@@ -232,6 +237,7 @@ def load_run(run_dir: Path | str) -> RunData:
         pareto = pd.read_csv(
             pareto_path, dtype=dict.fromkeys(PARETO_TEXT_COLUMNS, str), keep_default_na=False
         )
+        files.restore_frame(pareto, PARETO_TEXT_COLUMNS)
         gone = [c for c in PARETO_COLUMNS if c not in pareto.columns]
         if gone:
             problems.append(_problem(pareto_path, "", f"missing columns: {', '.join(gone)}"))
@@ -262,7 +268,7 @@ def load_run(run_dir: Path | str) -> RunData:
         pareto=pareto,
         shortlist=shortlist,
         study_text=study_text,
-        started=_folder_time(folder),
+        started=folder_time(folder),
     )
 
 

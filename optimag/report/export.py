@@ -12,15 +12,13 @@ Names, units, words and rounding all come from the schema in `optimag.records`.
 from __future__ import annotations
 
 import json
-import os
 import re
-import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
 import pandas as pd
 
-from optimag import records
+from optimag import files, records
 
 #: Build-sheet lines: the figures a builder needs, in order.
 BUILD_SHEET_FIELDS = (
@@ -63,15 +61,10 @@ def point_rows(design_records: list[dict], point: str) -> list[dict]:
 
 
 def _atomic(path: Path, write: Callable[[Path], None]) -> None:
-    """Write ``path`` through a temporary name in the same folder, then replace it."""
-    handle, temp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
-    os.close(handle)
-    try:
-        write(Path(temp))
-        os.replace(temp, path)
-    except BaseException:
-        Path(temp).unlink(missing_ok=True)
-        raise
+    """Write ``path`` through a temporary name in the same folder, then replace it
+    (`optimag.files.atomic_path`: never through a symlink; a failure names the file)."""
+    with files.atomic_path(path) as temp:
+        write(temp)
 
 
 def _sheet_name(text: str, taken: set[str]) -> str:
@@ -163,18 +156,21 @@ def write_xlsx(path: Path, design_records: list[dict], currency: str = "") -> No
     for record in design_records:
         _build_sheet(book, _sheet_name(f"build {record['design_id']}", taken), record,
                      currency)
+    files.neutralise_workbook(book)  # no cell may be read as a formula
     _atomic(path, lambda temp: book.save(temp))
 
 
 def write_tables(
     run_dir: Path, pareto: pd.DataFrame, shortlist_records: list[dict], currency: str = ""
 ) -> None:
-    """Write pareto.csv and the short-list as csv, xlsx and json into ``run_dir``."""
+    """Write pareto.csv and the short-list as csv, xlsx and json into ``run_dir``.
+
+    Every file is written atomically and every text cell neutralised against formula
+    injection (`optimag.files`).
+    """
     run_dir = Path(run_dir)
-    _atomic(run_dir / "pareto.csv",
-            lambda temp: pareto.to_csv(temp, index=False))
-    shortlist = shortlist_frame(shortlist_records)
-    _atomic(run_dir / "shortlist.csv", lambda temp: shortlist.to_csv(temp, index=False))
+    files.write_csv(pareto, run_dir / "pareto.csv")
+    files.write_csv(shortlist_frame(shortlist_records), run_dir / "shortlist.csv")
     write_xlsx(run_dir / "shortlist.xlsx", shortlist_records, currency)
     text = json.dumps({"designs": shortlist_records}, indent=1, allow_nan=False)
     _atomic(run_dir / "shortlist.json", lambda temp: temp.write_text(text, encoding="utf-8"))

@@ -9,6 +9,7 @@ that no string can close the block.
 
 from __future__ import annotations
 
+import dataclasses
 import html
 import json
 from collections.abc import Iterable, Sequence
@@ -18,7 +19,7 @@ from typing import Any
 import pandas as pd
 import plotly.graph_objects as go
 
-from optimag import records
+from optimag import files, records
 from optimag.report import data, figures, style
 
 REPORT_NAME = "report.html"
@@ -568,9 +569,16 @@ def render_report(run: data.RunData) -> str:
     )
 
 
-def build_report(run_dir: Path) -> Path:
-    """Write ``report.html`` into the run folder and return its path."""
+def build_report(run_dir: Path, *, shown_as: Path | None = None) -> Path:
+    """Write ``report.html`` into the run folder (atomically) and return its path.
+
+    ``shown_as`` is the folder the report belongs to when ``run_dir`` is where its files
+    are being prepared (the name and time stamp shown come from it).
+    """
     run = data.load_run(run_dir)
+    if shown_as is not None:
+        run = dataclasses.replace(run, folder=Path(shown_as),
+                                  started=data.folder_time(Path(shown_as)) or run.started)
     target = Path(run_dir) / REPORT_NAME
-    target.write_text(render_report(run), encoding="utf-8")
+    files.atomic_write_text(target, render_report(run))
     return target

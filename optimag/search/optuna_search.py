@@ -1115,6 +1115,7 @@ def explore_optuna(
     batch_size: int | None = None,
     population_size: int = DEFAULT_POPULATION,
     progress: Callable[[int, int], None] | None = None,
+    re_evaluate: bool = False,
 ) -> ExploreResult:
     """Search the study's design space with optuna and return an `ExploreResult`.
 

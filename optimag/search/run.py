@@ -14,11 +14,14 @@ import pandas as pd
 from optimag import __version__, model, records
 from optimag.errors import InputError, Problem
 from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
+from optimag.search.fingerprint import study_fingerprint
 from optimag.search.hand import hand_sizing
 from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
 from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
 
 DEFAULT_TOP = 20
+#: Search strategies `explore` runs.
+STRATEGIES = ("exhaustive", "optuna")
 
 
 @dataclass
@@ -70,12 +73,19 @@ def _line_of(study, key: str) -> int | None:
     return None
 
 
-def explore(study, catalog=None, top: int = DEFAULT_TOP, progress=None,
-            chunk_size: int | None = None) -> ExploreResult:
-    """Run the study's exhaustive search and build the front, short-list and run record.
+def explore(study, catalog=None, *, strategy: str | None = None, trials: int | None = None,
+            seed: int | None = None, storage: str | None = None, top: int = DEFAULT_TOP,
+            progress=None, chunk_size: int | None = None,
+            re_evaluate: bool = False) -> ExploreResult:
+    """Run what the study asks and build the front, short-list and run record.
 
     ``study`` is a loaded Study or a path to a study file; ``catalog`` defaults to the
-    study's catalogue.
+    study's catalogue. ``strategy`` (default: the study's ``[search] strategy``) is
+    ``"exhaustive"`` (every candidate of the catalogue) or ``"optuna"`` (``trials``,
+    ``seed`` and the SQLAlchemy ``storage`` URL apply, and a ``[custom_core]`` table is
+    searched beside the catalogue; an existing optuna study in ``storage`` is resumed,
+    or re-scored under this study with ``re_evaluate``). A ``[custom_core]`` table under
+    the exhaustive strategy is noted in the run record: only the catalogue is enumerated.
     """
     from optimag.catalog import load_catalog
     from optimag.spec import load_study
@@ -85,13 +95,28 @@ def explore(study, catalog=None, top: int = DEFAULT_TOP, progress=None,
     if catalog is None:
         catalog = load_catalog(study.catalog.path)
     check_study_against_catalog(study, catalog)
+    strategy = strategy or study.search.strategy
+    if strategy not in STRATEGIES:
+        raise InputError([Problem(str(study.path), _line_of(study, "strategy"),
+                                  "search.strategy",
+                                  f"'{strategy}' is not one of {', '.join(STRATEGIES)}")])
+    if strategy == "optuna":
+        from optimag.search.optuna_search import explore_optuna
+
+        return explore_optuna(study, catalog, trials=trials, seed=seed, top=top,
+                              storage=storage, progress=progress, re_evaluate=re_evaluate)
     space = model.build_design_space(study, catalog)
     objectives = list(study.search.objectives)
     kwargs = {"chunk_size": chunk_size} if chunk_size else {}
     if study.search.robust:
         kwargs["robust"] = study.tolerance
     outcome = explore_exhaustive(space, objectives, progress=progress, **kwargs)
-    return _assemble(study, catalog, space, objectives, outcome, top)
+    result = _assemble(study, catalog, space, objectives, outcome, top)
+    if getattr(study, "custom_core", None) is not None:
+        result.record.setdefault("notes", []).append(
+            "[custom_core] is searched by the optuna strategy only; this exhaustive run "
+            "covers the catalogue's cores")
+    return result
 
 
 def _assemble(study, catalog, space, objectives, outcome, top,
@@ -132,6 +157,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         [{"constraint": k, "eliminated": v, "share": v / max(outcome.total, 1)}
          for k, v in outcome.eliminated.items()]
     )
+    counted = int(outcome.feasible) + sum(int(v) for v in outcome.eliminated.values())
     limits = study.limits.model_dump() if hasattr(study.limits, "model_dump") else {}
     record = {
         "tool": "optimag",
@@ -159,13 +185,16 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         "normalisation": NORMALISATION_METHOD,
         "required_inductance_uH": space.requirements.inductance_H * 1e6,
         "counts": {
-            "total": int(outcome.total),
+            # Candidates counted (feasible + eliminated); an interrupted exhaustive run
+            # also says how many of the space it did not reach.
+            "total": counted,
             "feasible": int(outcome.feasible),
             "pareto": len(pareto),
             "eliminated": {k: int(v) for k, v in outcome.eliminated.items()},
             "stages": outcome.stage_sizes,
         },
         "interrupted": outcome.interrupted,
+        "fingerprint": study_fingerprint(study, catalog),
         "wall_time_s": round(outcome.wall_time_s, 4),
         "candidates_per_s": round(outcome.total / max(outcome.wall_time_s, 1e-9), 1),
         "limits": limits,
@@ -180,6 +209,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
             catalogue_space or space, objectives, front.objectives if len(front) else None
         ),
     }
+    if outcome.interrupted and int(outcome.total) > counted:
+        record["counts"]["not_reached"] = int(outcome.total) - counted
     return ExploreResult(
         study=study, catalog=catalog, space=space, pareto=pareto,
         shortlist=records.records_frame(shortlist_records), shortlist_records=shortlist_records,
