@@ -1052,7 +1052,9 @@ def combine_stage(
         "temperature_C": temperature,
         "hotspot_temperature_C": hotspot,
         "runaway": runaway,
-        "thermal_inside_range": np.all(fixed.inside_range, axis=1) & conduction_inside,
+        # Per-candidate validity flag (the "thermal_model" flag of the range flags): some
+        # correlation or compound shape ran outside its published range at some point.
+        "outside_thermal_model": ~(np.all(fixed.inside_range, axis=1) & conduction_inside),
         "core_loss_W": core_loss,
         "winding_dc_loss_W": dc_loss,
         "winding_ac_loss_W": ac_loss,
@@ -1337,7 +1339,7 @@ def temperature_band(space: DesignSpace, candidates: Candidates) -> dict[str, ob
         metrics = evaluate(variant, candidates)
         hot = metrics["worst_hotspot_temperature_C"]
         stuck = metrics["runaway"].any(axis=1)
-        applies = metrics["thermal_inside_range"].copy()
+        applies = ~metrics["outside_thermal_model"]
         if name == "ferrite_rth":
             applies &= ferrite
         if position == 0:

@@ -604,7 +604,7 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         "temperature_band_models": ", ".join(details["temperature_band"]["models"][i]),
         "thermal_model": req.thermal_model,
         "cooling_mode": req.cooling.mode,
-        "thermal_in_range": bool(metrics["thermal_inside_range"][i]),
+        "thermal_in_range": not bool(metrics["outside_thermal_model"][i]),
         "flux_swing_T": at["flux_swing_T"],
         "dcm": at["dcm"],
         "dc_resistance_20C_mOhm": float(metrics["dc_resistance_20C_ohm"][i] * 1e3),
@@ -692,7 +692,7 @@ def _model_notes(space, candidates, metrics, i, runaway_models=()) -> list[str]:
     if gap > 0 and space.requirements.fringing == "mclyman" and gap > c.breadth_m[core]:
         notes.append("gap fringing: gap longer than the winding breadth, beyond the range "
                      "of McLyman's fringing factor")
-    if not metrics["thermal_inside_range"][i]:
+    if metrics["outside_thermal_model"][i]:
         notes.append(
             f"thermal: the {space.requirements.thermal_model} model "
             f"({model.THERMAL_MODEL_WORDS[space.requirements.thermal_model]}) ran outside a "

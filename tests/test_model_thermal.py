@@ -74,7 +74,7 @@ def test_screen_is_exact_and_hot_spot_above_surface(tiny_space, mode):
     hot, surface = metrics["hotspot_temperature_C"], metrics["temperature_C"]
     assert np.all(hot[settled] >= surface[settled])
     assert np.any(hot[settled] > surface[settled] + 0.1)
-    assert metrics["thermal_inside_range"].dtype == bool
+    assert metrics["outside_thermal_model"].dtype == bool
     # The limit applies to the hot spot.
     worst_hot = np.where(metrics["runaway"].any(axis=1), np.inf, hot.max(axis=1))
     over = worst_hot > space.requirements.max_temperature_C
@@ -181,3 +181,18 @@ def test_hot_spot_by_hand_for_a_foil_winding(tiny_space):
     rise = metrics["hotspot_temperature_C"][i] - metrics["temperature_C"][i]
     assert np.all(rise >= winding_rise - 1e-9)
     np.testing.assert_allclose(np.maximum(rise, winding_rise), rise)
+
+
+def test_out_of_range_is_a_per_candidate_flag(tiny_space):
+    """A compound much thicker than the part's smallest side breaks the edge factor's
+    condition (Incropera Table 4.1: sides > t/5): every candidate is flagged; a thin one
+    flags none of these parts."""
+    cands = _candidates(tiny_space, 200, seed=11)
+    thick = model.evaluate(_with_cooling(
+        tiny_space, mode="potted", potting_conductivity_W_mK=0.6, potting_thickness_m=0.2,
+        wall_temperature_C=40.0), cands)
+    thin = model.evaluate(_with_cooling(
+        tiny_space, mode="potted", potting_conductivity_W_mK=0.6, potting_thickness_m=2e-3,
+        wall_temperature_C=40.0), cands)
+    assert thick["outside_thermal_model"].all()
+    assert not thin["outside_thermal_model"].any()

@@ -951,11 +951,14 @@ def _inside_ferrite(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool
 
 
 def _inside_faces(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
-    return _faces_conductance(rise_K, part, "churchill_chu", True)[1].inside_range
+    # Faces that meet no air (potted) use no air correlation.
+    inside = _faces_conductance(rise_K, part, "churchill_chu", True)[1].inside_range
+    return inside | (np.asarray(part.air_exposed) == 0)
 
 
 def _inside_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
-    return _faces_conductance(rise_K, part, "churchill_chu_laminar", True)[1].inside_range
+    inside = _faces_conductance(rise_K, part, "churchill_chu_laminar", True)[1].inside_range
+    return inside | (np.asarray(part.air_exposed) == 0)
 
 
 RangeFlags = Callable[[FloatArray, ThermalContext], NDArray[np.bool_]]
