@@ -159,14 +159,16 @@ def _summarise(result, run_dir: Path) -> int:
         return EXIT_INTERRUPTED if interrupted else EXIT_INFEASIBLE
     table = Table(title=f"Short-list (first {min(5, len(result.shortlist_records))}; all in "
                         f"{run_dir / 'shortlist.csv'})")
-    for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "weighted loss W", "T °C",
+    for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "weighted loss W",
+                "hot spot °C",
                 "vol cm³", "cost"):
         table.add_column(col)
     for rec in result.shortlist_records[:5]:
         table.add_row(
             rec["design_id"] + (" (knee)" if rec.get("knee") else ""), rec["core"],
             rec["material"], str(rec["turns"]), f"{rec['gap_mm']:.3f}", rec["wire"],
-            str(rec["parallel"]), f"{rec['weighted_loss_W']:.3f}", f"{rec['temperature_C']:.1f}",
+            str(rec["parallel"]), f"{rec['weighted_loss_W']:.3f}",
+            f"{rec['hotspot_temperature_C']:.1f}",
             f"{rec['volume_cm3']:.2f}", f"{rec['cost']:.2f}",
         )
     out.print(table)

@@ -67,8 +67,8 @@ RUN_FIELDS = (
 PARALLEL_AXES: dict[str, str] = {
     column: records.header(column)
     for column in (
-        "turns", "gap_mm", "fill_factor", "peak_flux_T", "temperature_C", "weighted_loss_W",
-        "volume_cm3", "cost",
+        "turns", "gap_mm", "fill_factor", "peak_flux_T", "hotspot_temperature_C",
+        "weighted_loss_W", "volume_cm3", "cost",
     )
 }
 
@@ -373,6 +373,7 @@ def shortlist_table(run: RunData) -> pd.DataFrame:
         "peak_current_A",
         "peak_flux_T",
         "temperature_C",
+        "hotspot_temperature_C",
         "core_loss_W",
         "winding_dc_loss_W",
         "winding_ac_loss_W",
@@ -384,7 +385,10 @@ def shortlist_table(run: RunData) -> pd.DataFrame:
         "operating_point",
         "dcm",
     ]
-    table = pd.DataFrame([{c: r[c] for c in columns} for r in run.shortlist], columns=columns)
+    # Records written before the hot spot existed: their temperature stands in for it.
+    rows = [{c: r.get(c, r.get("temperature_C")) if c == "hotspot_temperature_C" else r[c]
+             for c in columns} for r in run.shortlist]
+    table = pd.DataFrame(rows, columns=columns)
     table["knee"] = table["knee"].astype(bool)
     table["dcm"] = table["dcm"].astype(bool)
     return table.sort_values("rank", kind="stable").reset_index(drop=True)
@@ -401,7 +405,9 @@ BUILD_SHEET_FIELDS = (
     "parallel", "layers", "fill_factor", "winding_length_m", "lead_allowance_mm",
     "wire_length_m", "copper_mass_g", "dc_resistance_20C_mOhm", "dc_resistance_mOhm",
     "box_length_mm", "box_width_mm", "box_height_mm", "volume_cm3", "inductance_uH",
-    "inductance_at_peak_uH", "peak_current_A", "peak_flux_T", "weighted_loss_W", "mass_g",
+    "inductance_at_peak_uH", "peak_current_A", "peak_flux_T", "temperature_C",
+    "hotspot_temperature_C", "temperature_band_low_C", "temperature_band_high_C",
+    "thermal_model", "cooling_mode", "thermal_in_range", "weighted_loss_W", "mass_g",
     "cost", "area_product_cm4", "area_product_required_cm4",
 )
 

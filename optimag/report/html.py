@@ -312,7 +312,7 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
             f"{r.gap_mm:.2f}",
             f"{r.wire} ×{r.parallel}",
             f"{r.weighted_loss_W:.3g}",
-            f"{r.temperature_C:.0f}",
+            f"{r.hotspot_temperature_C:.0f}",
             f"{r.volume_cm3:.2f}",
             f"{r.cost:.2f}",
         ]
@@ -329,7 +329,7 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
             "Gap [mm]",
             "Wire",
             records.header("weighted_loss_W"),
-            "Temp. [°C]",
+            "Hot spot [°C]",
             "Volume [cm³]",
             cost_header,
         ],
@@ -416,7 +416,8 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> 
     summary = (
         f"{float(record['inductance_uH']):.1f} µH · at {record['operating_point']}: "
         f"{records.display('total_loss_W', record['total_loss_W'])} W, "
-        f"{float(record['temperature_C']):.0f} °C · weighted loss "
+        f"{float(record.get('hotspot_temperature_C', record['temperature_C'])):.0f} °C hot "
+        "spot · weighted loss "
         f"{records.display('weighted_loss_W', record['weighted_loss_W'])} W"
     )
     return (
