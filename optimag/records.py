@@ -247,6 +247,13 @@ register(
        "Inductance at peak over the required inductance", 3, "worst"),
     _f("inductance_at_peak_limit", "", "Lowest inductance kept at peak",
        "Study's lowest allowed inductance at peak, as a share of the required", 3, "limit"),
+    # --- production scatter (optimag.tolerance) ------------------------------------
+    _f("yield_fraction", "", "Yield",
+       "Share of Monte Carlo builds (the study's [tolerance] spreads) that meet every "
+       "limit; empty for designs not analysed", 3, "design"),
+    _f("yield_driver", "", "Yield driver",
+       "The spread that alone loses the most yield (none: no spread alone loses any)",
+       None, "text"),
     _f("worst_constraint", "", "Worst constraint",
        "The constraint an infeasible design violates most (normalised)", None, "text"),
     _f("worst_violation", "", "Worst violation",
@@ -260,7 +267,7 @@ PARETO_COLUMNS = [
     "operating_point", "total_loss_W", "core_loss_W", "winding_dc_loss_W",
     "winding_ac_loss_W", "temperature_C", "hotspot_temperature_C", "peak_flux_T",
     "fill_factor", "inductance_uH",
-    "inductance_at_peak_uH", "knee",
+    "inductance_at_peak_uH", "knee", "yield_fraction",
 ]
 
 #: Text columns of pareto.csv (read back as strings).
@@ -283,14 +290,14 @@ SHORTLIST_COLUMNS = [
     "lead_allowance_mm", "wire_length_m", "copper_mass_g", "box_length_mm", "box_width_mm",
     "box_height_mm", "volume_cm3", "mass_g", "cost", "area_product_cm4",
     "area_product_required_cm4", "geometry_coefficient_cm5",
-    "geometry_coefficient_required_cm5",
+    "geometry_coefficient_required_cm5", "yield_fraction", "yield_driver",
 ]
 
 #: Fields every short-list record carries (shortlist.json).
 RECORD_FIELDS = (
     *SHORTLIST_COLUMNS, "temperature_band_C", "temperature_band_models", "feasible",
     "per_operating_point", "inputs", "margins",
-    "inductance_curve", "winding", "parts", "model_notes",
+    "inductance_curve", "winding", "parts", "model_notes", "tolerance",
 )
 
 #: Figures of each per_operating_point entry (besides ``inputs``).
@@ -712,3 +719,55 @@ def _model_notes(space, candidates, metrics, i, runaway_models=()) -> list[str]:
 def undeclared(names: Iterable[str]) -> list[str]:
     """Names not declared in the schema (a test keeps every exported column declared)."""
     return [n for n in names if n not in FIGURES]
+
+
+#: Bins of the per-design histograms of Monte Carlo figures in a record's ``tolerance``.
+YIELD_HISTOGRAM_BINS = 30
+
+
+def tolerance_part(result, row: int) -> dict:
+    """A record's ``tolerance`` object from a `optimag.tolerance.YieldResult` row: yield per
+    constraint, percentiles, the yield each spread alone loses (largest first), and
+    histograms of the sampled figures against their limits."""
+    from optimag import tolerance
+
+    table = result.table.iloc[row]
+    by_constraint = {
+        name: float(table[f"yield_{name}"]) for name in model.CONSTRAINTS
+        if f"yield_{name}" in table
+    }
+    percentiles = {
+        figure: {f"p{q:g}": float(table[f"{figure}_p{q:g}"]) for q in tolerance.PERCENTILES}
+        for figure in tolerance.FIGURES
+    }
+    losses = {
+        p: float(table[f"yield_loss_{p}"]) for p in tolerance.PARAMETERS
+        if f"yield_loss_{p}" in table
+    }
+    histograms = {}
+    for figure, values in result.samples.items():
+        sample = np.asarray(values[row], dtype=float)
+        sample = sample[np.isfinite(sample)]
+        if sample.size == 0:
+            continue
+        counts, edges = np.histogram(sample, bins=YIELD_HISTOGRAM_BINS)
+        histograms[figure] = {"edges": edges.tolist(), "counts": counts.tolist(),
+                              "limit": result.limits.get(figure)}
+    return {
+        "samples": result.n_samples,
+        "seed": result.seed,
+        "yield_fraction": float(table["yield_fraction"]),
+        "yield_by_constraint": by_constraint,
+        "percentiles": percentiles,
+        "yield_loss_by_spread": dict(sorted(losses.items(), key=lambda kv: -kv[1])),
+        "histograms": histograms,
+    }
+
+
+def add_yields(design_records: list[dict], result) -> None:
+    """Write a `optimag.tolerance.YieldResult` (row i for record i) into the records."""
+    for row, record in enumerate(design_records):
+        part = tolerance_part(result, row)
+        record["yield_fraction"] = part["yield_fraction"]
+        record["yield_driver"] = str(result.table.iloc[row].get("yield_driver", "none"))
+        record["tolerance"] = part

@@ -282,3 +282,29 @@ def test_robust_search_needs_the_exhaustive_strategy(tmp_path):
         "[search]\n", '[search]\nrobust = true\nstrategy = "optuna"\n'))
     with pytest.raises(InputError, match="robust"):
         load_study(path)
+
+
+@pytest.mark.slow
+def test_every_shortlisted_record_carries_its_yield_and_run_json_the_seed(tmp_path):
+    from optimag.search.run import explore
+    from tests.search.conftest import write_tiny_study
+
+    path = write_tiny_study(tmp_path)
+    path.write_text(path.read_text() + "\n[tolerance]\nsamples = 300\nseed = 11\n")
+    result = explore(path, top=4)
+    account = result.record["tolerance"]
+    assert (account["seed"], account["samples"], account["scope"]) == (11, 300, "shortlist")
+    assert account["designs"] == len(result.shortlist_records)
+    for record in result.shortlist_records:
+        part = record["tolerance"]
+        assert record["yield_fraction"] == part["yield_fraction"]
+        assert 0.0 <= record["yield_fraction"] <= 1.0
+        # All limits together cannot be met more often than the least-met one.
+        assert record["yield_fraction"] <= min(part["yield_by_constraint"].values()) + 1e-12
+        assert set(part["histograms"]) == set(tolerance.FIGURES)
+        for figure, hist in part["histograms"].items():
+            assert sum(hist["counts"]) <= 300, figure
+        assert record["yield_driver"] in (*tolerance.PARAMETERS, "none")
+    shortlisted = {r["design_id"] for r in result.shortlist_records}
+    analysed = result.pareto[result.pareto["yield_fraction"].notna()]
+    assert set(analysed["design_id"]) == shortlisted

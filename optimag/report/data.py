@@ -42,8 +42,11 @@ OBJECTIVES: dict[str, tuple[str, str, str | None]] = {
 }
 
 PARETO_TEXT_COLUMNS = records.PARETO_TEXT_COLUMNS
+#: Numeric pareto.csv columns that are empty for some designs (yield: analysed ones only).
+PARETO_OPTIONAL_COLUMNS = ("yield_fraction",)
 PARETO_NUMBER_COLUMNS = tuple(
-    c for c in records.PARETO_COLUMNS if c not in PARETO_TEXT_COLUMNS and c != "knee"
+    c for c in records.PARETO_COLUMNS
+    if c not in PARETO_TEXT_COLUMNS and c != "knee" and c not in PARETO_OPTIONAL_COLUMNS
 )
 PARETO_COLUMNS = tuple(records.PARETO_COLUMNS)
 RECORD_FIELDS = records.RECORD_FIELDS
@@ -288,6 +291,8 @@ def pareto_table(run: RunData) -> pd.DataFrame:
         table[name] = table[name].astype(str)
     for name in PARETO_NUMBER_COLUMNS:
         table[name] = pd.to_numeric(table[name], errors="raise").astype(float)
+    for name in PARETO_OPTIONAL_COLUMNS:
+        table[name] = pd.to_numeric(table[name], errors="coerce").astype(float)
     for name in ("turns", "stack", "parallel"):
         table[name] = table[name].round().astype(int)
     table["knee"] = _as_bool(table["knee"]) if len(table) else table["knee"].astype(bool)

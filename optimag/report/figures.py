@@ -121,6 +121,7 @@ def tradeoff_pair_figure(
                 hoverinfo="skip",
             )
         )
+    traces.extend(_yield_labels(front, view))
     knee = front[front["knee"]]
     if len(knee):
         traces.append(
@@ -168,6 +169,27 @@ def tradeoff_pair_figure(
         legend={"orientation": "h", "yanchor": "top", "y": -0.2, "x": 0},
         margin={"b": 40},
     )
+
+
+def _yield_labels(front: pd.DataFrame, view: PairView) -> list[Any]:
+    """Designs with a Monte Carlo yield: a ring coloured by it (brick below 90 %, ochre
+    below 99 %, sage above) and the yield written beside the point."""
+    if "yield_fraction" not in front:
+        return []
+    rows = front[front["yield_fraction"].notna()]
+    if rows.empty:
+        return []
+    share = rows["yield_fraction"].astype(float)
+    colours = np.select([share < 0.9, share < 0.99], [style.BRICK, style.OCHRE], style.SAGE)
+    return [go.Scatter(
+        x=rows[view.x_column], y=rows[view.y_column], mode="markers+text",
+        name="yield (ring: <90 % brick, <99 % ochre)",
+        text=[f"{v:.0%}" for v in share], textposition="top right",
+        textfont={"size": 10, "color": style.MUTED},
+        marker={"symbol": "circle-open", "size": 17, "color": list(colours),
+                "line": {"width": 2}},
+        hovertemplate="yield %{text}<extra></extra>",
+    )]
 
 
 def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str) -> go.Figure:

@@ -20,7 +20,7 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from optimag import files, records
-from optimag.report import data, figures, style
+from optimag.report import data, figures, style, yields
 
 REPORT_NAME = "report.html"
 
@@ -221,7 +221,7 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
         )
     body = (
         f'<div class="grid">{"".join(cards)}</div>' + _hand_sizing(run, hand)
-        + _custom_comparison(run)
+        + _custom_comparison(run) + _robust(run, front, slots)
     )
     lede = (
         f"Each point is a design no other design beats on every objective at once "
@@ -315,6 +315,7 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
             f"{r.hotspot_temperature_C:.0f}",
             f"{r.volume_cm3:.2f}",
             f"{r.cost:.2f}",
+            _yield_text(getattr(r, "yield_fraction", None)),
         ]
         for r in table.itertuples(index=False)
     )
@@ -332,9 +333,10 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
             "Hot spot [°C]",
             "Volume [cm³]",
             cost_header,
+            records.header("yield_fraction"),
         ],
         rows,
-        [True, False, False, False, True, True, False, True, True, True, True],
+        [True, False, False, False, True, True, False, True, True, True, True, True],
     )
     body = _card("Parallel axes", figure) + _card("Ranked list", listing, spaced=True)
     lede = (
@@ -393,7 +395,7 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> 
     drawing, losses_panel, inductance_panel, headroom = panels
     layout = (
         f'<div class="grid">{parts}<div class="stack">{drawing}{headroom}</div>'
-        f"{losses_panel}{inductance_panel}</div>"
+        f"{losses_panel}{inductance_panel}{_production_scatter(record, slots)}</div>"
     )
     notes = record.get("model_notes") or []
     if notes:
@@ -428,6 +430,59 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> 
         f'<span class="note">{escape(summary)}</span></header>'
         f"{layout}</article>"
     )
+
+
+def _yield_text(value: Any) -> str:
+    return "—" if value is None or pd.isna(value) else f"{float(value):.1%}"
+
+
+def _production_scatter(record: dict[str, Any], slots: _FigureSlots) -> str:
+    """Build-sheet panels: the distribution of inductance at peak and temperature over
+    Monte Carlo builds against their limits, yield per limit and the spreads that cost
+    the most yield."""
+    part = record.get("tolerance")
+    if not part:
+        return ""
+    plots = []
+    for figure in yields.HISTOGRAM_FIGURES:
+        frame = yields.histogram_frame(record, figure)
+        if frame.empty:
+            continue
+        limit = part["histograms"][figure].get("limit")
+        plots.append(slots.render(yields.histogram_figure(frame, figure, limit), "yield"))
+    ranking = yields.spread_ranking(record)
+    by_limit = yields.constraint_yields(record)
+    tables = _table(
+        ["Limit", "Builds meeting it"],
+        ([r.constraint, f"{r.meeting:.1%}"] for r in by_limit.itertuples(index=False)),
+        [False, True],
+    ) + _table(
+        ["Spread (acting alone)", "Yield lost"],
+        ([r.words, f"{r.yield_lost:.1%}"] for r in ranking.itertuples(index=False)),
+        [False, True],
+    )
+    note = (
+        f"{int(part['samples'])} simulated builds (seed {int(part['seed'])}) with the study's "
+        f"[tolerance] spreads: {float(part['yield_fraction']):.1%} meet every limit. Dashed: "
+        "the limit; brick bins fall beyond it."
+    )
+    return _card("Production scatter", "".join(plots) + tables, note)
+
+
+def _robust(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
+    comparison = yields.robust_comparison(run, front)
+    if comparison.empty:
+        return ""
+    x_title, y_title = yields.robust_titles(run)
+    counts = comparison["front"].value_counts()
+    note = (
+        f"{int(counts.get('robust', 0))} designs meet every limit at every tolerance corner "
+        f"(teal); the front of the nominally feasible designs has "
+        f"{int(counts.get('nominal', 0))} (sand)."
+    )
+    return _card("Robust front against the nominal front",
+                 slots.render(yields.robust_figure(comparison, x_title, y_title), "robust"),
+                 note, spaced=True)
 
 
 def _build_sheets(run: data.RunData, slots: _FigureSlots) -> str:

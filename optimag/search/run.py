@@ -5,13 +5,14 @@ from __future__ import annotations
 
 import difflib
 import re
+import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from optimag import __version__, model, records
+from optimag import __version__, model, records, tolerance
 from optimag.errors import InputError, Problem
 from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
 from optimag.search.fingerprint import study_fingerprint
@@ -125,6 +126,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
     (default ``space``) holds the catalogue's cores only, for the hand procedure."""
     front = outcome.front
     front_candidates = front_metrics = None
+    tolerance_record: dict = {}
     pareto = pd.DataFrame(columns=records.PARETO_COLUMNS)
     shortlist_records: list[dict] = []
     if len(front):
@@ -138,12 +140,14 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         knee = knee_index(front.objectives[order])
         for i, rec in enumerate(front_records):
             rec["knee"] = i == knee
-        pareto = records.pareto_frame(front_records)
         groups = np.column_stack([front_candidates.core, front_candidates.material,
                                   front_candidates.turns])
         picked = spread_shortlist(front.objectives[order], groups, top)
         # The knee first, then the rest in front order (sorted by the first objective).
         ranked = picked[:1] + sorted(picked[1:])
+        tolerance_record = _yields(study, space, front_candidates, front_metrics,
+                                   front_records, ranked)
+        pareto = records.pareto_frame(front_records)
         shortlist_records = [front_records[i] for i in ranked]
         for rank, rec in enumerate(shortlist_records, start=1):
             rec["rank"] = rank
@@ -208,6 +212,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         "hand_sizing": hand_sizing(
             catalogue_space or space, objectives, front.objectives if len(front) else None
         ),
+        "tolerance": tolerance_record,
+        "robust": _robust_record(study, outcome, objectives),
     }
     if outcome.interrupted and int(outcome.total) > counted:
         record["counts"]["not_reached"] = int(outcome.total) - counted
@@ -217,3 +223,39 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         eliminated=eliminated, record=record, front_candidates=front_candidates,
         front_metrics=front_metrics, near_miss_records=near_records,
     )
+
+
+def _yields(study, space, candidates, metrics, front_records, shortlisted) -> dict:
+    """Monte Carlo yield of the short-listed designs (or the whole front, by the study's
+    ``[tolerance] scope``), written into their records; returns run.json's account."""
+    spec = study.tolerance
+    analysed = list(range(len(front_records))) if spec.scope == "front" else list(shortlisted)
+    start = time.perf_counter()
+    index = np.asarray(analysed, dtype=np.int64)
+    result = tolerance.monte_carlo(space, candidates.take(index), metrics["gap_m"][index], spec)
+    records.add_yields([front_records[i] for i in analysed], result)
+    return {
+        "method": "Monte Carlo over the [tolerance] spreads with the search's model; gap as "
+                  "built (never re-solved); each spread alone for the yield driver",
+        "seed": result.seed,
+        "samples": result.n_samples,
+        "scope": spec.scope,
+        "designs": len(analysed),
+        "wall_time_s": round(time.perf_counter() - start, 3),
+        "spreads": spec.model_dump(exclude={"samples", "seed", "scope"}),
+    }
+
+
+def _robust_record(study, outcome, objectives) -> dict:
+    """run.json's account of a robust search: whether it ran, and the nominal front's
+    objective values beside the robust one for the report's comparison."""
+    if not study.search.robust:
+        return {"enabled": False}
+    nominal = getattr(outcome, "nominal_front", None)
+    points = [] if nominal is None or not len(nominal) else nominal.objectives.tolist()
+    return {
+        "enabled": True,
+        "method": "every limit met at each constraint's worst tolerance corner",
+        "objectives": list(objectives),
+        "nominal_front": points,
+    }

@@ -278,7 +278,38 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
         "model_notes": [],
     }
     record["parts"] = records.parts_list(record)
+    record.update(_yield_fields(rng, at_peak, hottest["temperature_C"]))
     return record
+
+
+def _yield_fields(rng: np.random.Generator, at_peak: float, temperature: float) -> dict:
+    """A Monte Carlo summary shaped as `records.tolerance_part` writes it (invented)."""
+    yield_fraction = round(0.6 + 0.4 * float(rng.random()), 3)
+    l_samples = at_peak * (1 + 0.05 * rng.standard_normal(400))
+    t_samples = temperature + 3.0 * rng.standard_normal(400)
+    histograms = {}
+    for name, sample, limit in (("inductance_at_peak_uH", l_samples, 0.7 * 33.0),
+                                ("temperature_C", t_samples, 100.0)):
+        counts, edges = np.histogram(sample, bins=records.YIELD_HISTOGRAM_BINS)
+        histograms[name] = {"edges": edges.tolist(), "counts": counts.tolist(),
+                            "limit": limit}
+    return {
+        "yield_fraction": yield_fraction,
+        "yield_driver": "bsat",
+        "tolerance": {
+            "samples": 400, "seed": 0, "yield_fraction": yield_fraction,
+            "yield_by_constraint": {"saturation": yield_fraction, "temperature": 1.0},
+            "percentiles": {
+                "inductance_at_peak_uH": {"p5": round(at_peak * 0.92, 3),
+                                          "p50": round(at_peak, 3),
+                                          "p95": round(at_peak * 1.08, 3)},
+                "temperature_C": {"p5": temperature - 5, "p50": temperature,
+                                  "p95": temperature + 5},
+            },
+            "yield_loss_by_spread": {"bsat": round(1 - yield_fraction, 3), "gap": 0.0},
+            "histograms": histograms,
+        },
+    }
 
 
 #: Flat (non-nested) record fields, as the record schema lists them.
@@ -353,6 +384,9 @@ def make_run_folder(
         },
         "operating_points": OPERATING_POINTS,
         "currency": "EUR",
+        "tolerance": {"seed": 0, "samples": 400, "scope": "shortlist", "designs": 5,
+                      "wall_time_s": 0.4, "method": "Monte Carlo", "spreads": {}},
+        "robust": {"enabled": False},
     }
     if not feasible:
         eliminated["temperature"] += feasible_count
