@@ -59,7 +59,7 @@ PERCENTILES = (5.0, 50.0, 95.0)
 FIGURES = {
     "inductance_at_peak_uH": ("inductance_at_peak_H", 1e6),
     "peak_flux_T": ("worst_flux_T", 1.0),
-    "temperature_C": ("worst_temperature_C", 1.0),
+    "hotspot_temperature_C": ("worst_hotspot_temperature_C", 1.0),
 }
 
 #: Conductor tolerance of round winding wire, IEC 60317-0-1, approximated as
@@ -423,7 +423,7 @@ def monte_carlo(
     req = space.requirements
     limits = {
         "inductance_at_peak_uH": req.inductance_H * req.min_fraction_at_peak * 1e6,
-        "temperature_C": req.max_temperature_C,
+        "hotspot_temperature_C": req.max_temperature_C,
     }
     return YieldResult(pd.DataFrame(table), samples, limits, n_samples, seed)
 

@@ -30,7 +30,7 @@ SPREAD_WORDS = {
 }
 
 #: The figures drawn as histograms on a build sheet, with their axis words.
-HISTOGRAM_FIGURES = ("inductance_at_peak_uH", "temperature_C")
+HISTOGRAM_FIGURES = ("inductance_at_peak_uH", "hotspot_temperature_C")
 
 
 def histogram_frame(record: dict[str, Any], figure: str) -> pd.DataFrame:

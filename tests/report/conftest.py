@@ -289,7 +289,7 @@ def _yield_fields(rng: np.random.Generator, at_peak: float, temperature: float) 
     t_samples = temperature + 3.0 * rng.standard_normal(400)
     histograms = {}
     for name, sample, limit in (("inductance_at_peak_uH", l_samples, 0.7 * 33.0),
-                                ("temperature_C", t_samples, 100.0)):
+                                ("hotspot_temperature_C", t_samples, 100.0)):
         counts, edges = np.histogram(sample, bins=records.YIELD_HISTOGRAM_BINS)
         histograms[name] = {"edges": edges.tolist(), "counts": counts.tolist(),
                             "limit": limit}
@@ -303,7 +303,7 @@ def _yield_fields(rng: np.random.Generator, at_peak: float, temperature: float) 
                 "inductance_at_peak_uH": {"p5": round(at_peak * 0.92, 3),
                                           "p50": round(at_peak, 3),
                                           "p95": round(at_peak * 1.08, 3)},
-                "temperature_C": {"p5": temperature - 5, "p50": temperature,
+                "hotspot_temperature_C": {"p5": temperature - 5, "p50": temperature,
                                   "p95": temperature + 5},
             },
             "yield_loss_by_spread": {"bsat": round(1 - yield_fraction, 3), "gap": 0.0},

@@ -18,7 +18,7 @@ def _record(limit_l=20.0, limit_t=100.0):
         "histograms": {
             "inductance_at_peak_uH": {"edges": [18, 19, 20, 21, 22], "counts": [1, 2, 3, 4],
                                       "limit": limit_l},
-            "temperature_C": {"edges": [90, 95, 100, 105], "counts": [5, 3, 2],
+            "hotspot_temperature_C": {"edges": [90, 95, 100, 105], "counts": [5, 3, 2],
                               "limit": limit_t},
         },
     }}
@@ -28,12 +28,12 @@ def test_histogram_marks_the_bins_beyond_each_limit():
     low = yields.histogram_frame(_record(), "inductance_at_peak_uH")
     assert list(low["beyond"]) == [True, True, False, False]  # inductance must reach it
     assert np.isclose(low["share"].sum(), 1.0)
-    hot = yields.histogram_frame(_record(), "temperature_C")
+    hot = yields.histogram_frame(_record(), "hotspot_temperature_C")
     assert list(hot["beyond"]) == [False, False, True]  # temperature must stay below it
 
 
 def test_histogram_of_a_design_not_analysed_is_empty():
-    assert yields.histogram_frame({}, "temperature_C").empty
+    assert yields.histogram_frame({}, "hotspot_temperature_C").empty
 
 
 def test_spreads_ranked_by_the_yield_they_lose():
