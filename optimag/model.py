@@ -317,6 +317,8 @@ class Cooling:
     core_emissivity, winding_emissivity : of the visible core and winding surfaces
     potting_shape : conduction shape of the compound layer: "faces_edges_corners" (the
         model), "faces_only" and "outer_faces" (its lower and upper bounds, for the band)
+    board_path_factor : multiplies the board conductance: 1 in the model; 0.5 and 2 bound
+        the assumed terminal length and standoff gap for the band
     """
 
     mode: str = "free_air"
@@ -330,6 +332,7 @@ class Cooling:
     core_emissivity: float = 0.9
     winding_emissivity: float = 0.85
     potting_shape: str = "faces_edges_corners"
+    board_path_factor: float = 1.0
 
     @classmethod
     def from_study(cls, cooling) -> Cooling:
@@ -899,7 +902,7 @@ def thermal_setup(
     if cool.mode == "forced_air":
         kwargs["air_speed_m_s"] = cool.air_speed_m_s
     elif cool.mode == "on_board":
-        g_board = thermal.board_conductance(
+        g_board = cool.board_path_factor * thermal.board_conductance(
             geometry.footprint(length, width), wdg["copper_area_m2"], cool.board_copper_area_m2
         )
         kwargs["fixed_conductance_W_K"] = g_board
@@ -1292,13 +1295,17 @@ THERMAL_MODEL_WORDS = {
     "faces_edges_corners": "compound: plane walls plus edge and corner shape factors",
     "faces_only": "compound: plane walls over the faces only",
     "outer_faces": "compound: plane walls of the outer (wall-side) area",
+    "board_path_half": "face by face, board conductance halved",
+    "board_path_double": "face by face, board conductance doubled",
 }
 
 
 def thermal_alternatives(space: DesignSpace) -> list[tuple[str, DesignSpace]]:
     """The study's thermal model first, then the published alternatives that apply to its
     cooling: the laminar vertical-face form; in still free air also the whole-part laws;
-    for a potted part the lower and upper bounds of the compound's conduction shape."""
+    for a potted part the lower and upper bounds of the compound's conduction shape; on a
+    board also the board path halved and doubled (its terminal length and standoff gap are
+    assumptions)."""
     req = space.requirements
     cool = req.cooling
     if cool.mode == "potted":
@@ -1312,11 +1319,20 @@ def thermal_alternatives(space: DesignSpace) -> list[tuple[str, DesignSpace]]:
     if cool.mode == "free_air":
         names += list(FREE_AIR_ALTERNATIVES)
     names = [req.thermal_model] + [n for n in names if n != req.thermal_model]
-    return [
+    variants = [
         (name, dataclasses.replace(
             space, requirements=dataclasses.replace(req, thermal_model=name)))
         for name in names
     ]
+    if cool.mode == "on_board":
+        # The terminal length and the standoff gap are assumptions (common practice, no
+        # source): the board path within a factor of two either way.
+        variants += [
+            (label, dataclasses.replace(space, requirements=dataclasses.replace(
+                req, cooling=dataclasses.replace(cool, board_path_factor=factor))))
+            for label, factor in (("board_path_half", 0.5), ("board_path_double", 2.0))
+        ]
+    return variants
 
 
 def temperature_band(space: DesignSpace, candidates: Candidates) -> dict[str, object]:
