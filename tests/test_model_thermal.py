@@ -196,3 +196,29 @@ def test_out_of_range_is_a_per_candidate_flag(tiny_space):
         wall_temperature_C=40.0), cands)
     assert thick["outside_thermal_model"].all()
     assert not thin["outside_thermal_model"].any()
+
+
+@pytest.mark.parametrize(
+    ("mode", "expected"),
+    [("free_air", {"faces", "faces_laminar", "mclyman"}),
+     ("on_board", {"faces", "faces_laminar", "board_path_half", "board_path_double"}),
+     ("potted", {"faces_edges_corners", "faces_only", "outer_faces"})],
+)
+def test_band_spans_the_applicable_models_around_the_study_model(tiny_space, mode, expected):
+    space = _with_cooling(tiny_space, mode=mode, **MODES[mode])
+    cands = _candidates(space, 300, seed=13)
+    metrics = model.evaluate(space, cands)
+    settled = np.flatnonzero(~metrics["runaway"].any(axis=1))[:60]
+    cands = cands.take(settled)
+    hot = metrics["worst_hotspot_temperature_C"][settled]
+    band = model.temperature_band(space, cands)
+    assert np.all(band["low_C"] <= hot + 1e-9) and np.all(hot <= band["high_C"] + 1e-9)
+    names = {name for used in band["models"] for name in used}
+    assert expected <= names
+    assert all(used[0] in {"faces", "faces_edges_corners"} for used in band["models"])
+    if mode == "potted":
+        # Faces only conducts least, the outer area most: the band's ends.
+        only = model.evaluate(model.thermal_alternatives(space)[1][1], cands)
+        outer = model.evaluate(model.thermal_alternatives(space)[2][1], cands)
+        np.testing.assert_allclose(band["high_C"], only["worst_hotspot_temperature_C"])
+        np.testing.assert_allclose(band["low_C"], outer["worst_hotspot_temperature_C"])
