@@ -343,3 +343,15 @@ def test_layers_in_series_bound_the_round_wire_winding_from_below():
     assert series <= numerical
     # ... and not absurdly low: here 0.55 against 1.03 W/(m K), within a factor of ten.
     assert numerical < 10 * series
+
+
+def test_radiation_coefficient_example_1_2():
+    ex = DATA["example_1_2_radiation"]
+    perimeter = np.pi * ex["diameter_m"]
+    delta_T = ex["surface_C"] - ex["surroundings_C"]
+    h_rad = th.radiation_coefficient(ex["surface_C"], ex["surroundings_C"], ex["emissivity"])
+    radiation = h_rad * perimeter * delta_T
+    convection = ex["h_W_m2K"] * perimeter * delta_T
+    assert radiation == pytest.approx(ex["answer_radiation_W_m"], rel=2e-3)
+    assert convection == pytest.approx(ex["answer_convection_W_m"], rel=2e-3)
+    assert radiation + convection == pytest.approx(ex["answer_total_W_m"], rel=2e-3)
