@@ -74,9 +74,11 @@ def _explore(args) -> int:
     folder_storage = strategy == "optuna" and not args.storage
     protect = (Path(study.path), Path(catalog.folder))
     # Every check of the run folder, and its lock, come before the search.
+    made = not args.out or not Path(args.out).exists()
     out_dir = Path(args.out) if args.out else default_run_dir(study)
     with files.claim_run_folder(out_dir, overwrite=args.overwrite,
-                                continue_storage=folder_storage, protect=protect):
+                                continue_storage=folder_storage, protect=protect,
+                                discard_if_unused=made):
         storage = args.storage
         if folder_storage:
             db = out_dir / files.STORAGE_NAME

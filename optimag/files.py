@@ -328,8 +328,12 @@ def check_run_folder(folder: str | Path, *, overwrite: bool = False,
 @contextlib.contextmanager
 def claim_run_folder(folder: str | Path, *, overwrite: bool = False,
                      continue_storage: bool = False,
-                     protect: tuple[Path, ...] = ()) -> Iterator[Path]:
+                     protect: tuple[Path, ...] = (),
+                     discard_if_unused: bool = False) -> Iterator[Path]:
     """Check ``folder`` (`check_run_folder`), create it and hold its lock for the block.
+
+    With ``discard_if_unused`` (the caller made the folder for this run), a block that
+    ends in an error and leaves nothing but the lock file removes the folder again.
 
     A second claim of a folder this process already holds nests (the checks were made by
     the first). Another process's claim fails at once with `RunFolderError` naming the
@@ -381,13 +385,21 @@ def claim_run_folder(folder: str | Path, *, overwrite: bool = False,
         raise
     with _HELD_GUARD:
         _HELD[key] = _Held(key, fd)
+    failed = False
     try:
         yield folder
+    except BaseException:
+        failed = True
+        raise
     finally:
         with _HELD_GUARD:
             _HELD.pop(key, None)
-        # The lock file stays: removing it would let a run that opened it before the
-        # removal lock a file no longer in the folder.
+        if failed and discard_if_unused and _is_empty(folder):
+            with contextlib.suppress(OSError):
+                (folder / LOCK_NAME).unlink()
+                folder.rmdir()
+        # Otherwise the lock file stays: removing it would let a run that opened it
+        # before the removal lock a file no longer in the folder.
         os.close(fd)
 
 

@@ -16,7 +16,7 @@ from hypothesis.extra.numpy import arrays
 
 from optimag import model
 from optimag.catalog import load_catalog
-from optimag.errors import InputError
+from optimag.errors import StorageError
 from optimag.search import optuna_search as osearch
 from optimag.search.pareto import dominated_by_any
 from optimag.search.run import explore
@@ -203,7 +203,7 @@ def test_resume_fails_stale_trials_and_tops_up(tmp_path, tiny_study_path):
 def test_resume_refuses_changed_objectives(tmp_path, make_tiny_study):
     run_dir = tmp_path / "run"
     osearch.explore_optuna(make_tiny_study(), trials=40, run_dir=run_dir)
-    with pytest.raises(InputError, match="objectives changed"):
+    with pytest.raises(StorageError, match=r"changed: search\.objectives.*--re-evaluate"):
         osearch.explore_optuna(make_tiny_study(("volume", "loss")), trials=80, run_dir=run_dir)
 
 
