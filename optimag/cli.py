@@ -58,7 +58,7 @@ def _explore(args) -> int:
     import optimag
     from optimag import files
     from optimag.catalog import load_catalog
-    from optimag.runfolder import default_run_dir
+    from optimag.runfolder import continues_optuna_run, default_run_dir
     from optimag.search.run import check_study_against_catalog
     from optimag.spec import load_study
 
@@ -76,15 +76,16 @@ def _explore(args) -> int:
     # Every check of the run folder, and its lock, come before the search.
     made = not args.out or not Path(args.out).exists()
     out_dir = Path(args.out) if args.out else default_run_dir(study)
+    continuing = strategy == "optuna" and continues_optuna_run(out_dir, args.storage)
     with files.claim_run_folder(out_dir, overwrite=args.overwrite,
-                                continue_storage=folder_storage, protect=protect,
+                                continuing=continuing, protect=protect,
                                 discard_if_unused=made):
         storage = args.storage
+        db = out_dir / files.STORAGE_NAME
+        if args.overwrite and db.exists():
+            db.unlink()  # --overwrite starts afresh, trials included
         if folder_storage:
-            db = out_dir / files.STORAGE_NAME
-            if args.overwrite and db.exists():
-                db.unlink()
-            elif db.exists():
+            if db.exists():
                 print(f"continuing the optuna study kept in {db}", file=sys.stderr)
             storage = f"sqlite:///{db.resolve()}"
         started = time.perf_counter()

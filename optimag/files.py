@@ -14,9 +14,10 @@ Every file optimag writes goes through this module:
   own folder and renamed over the target with `os.replace` (`atomic_path`,
   `atomic_write_text`); a rename replaces a symlink instead of following it.
 * **Exclusive run folders.** `claim_run_folder` refuses a folder that is a symlink or
-  contains one, a non-empty folder unless told to overwrite or to continue the optuna
-  storage kept in it, and a folder another run holds (an ``fcntl`` lock on a file in it,
-  released by the operating system when the holder ends, however it ends).
+  contains one, a non-empty folder unless told to overwrite it or that the run continues
+  the optuna study whose results it holds, and a folder another run holds (an ``fcntl``
+  lock on a file in it, released by the operating system when the holder ends, however
+  it ends).
   `unique_run_dir` creates a new default folder with a sub-second time stamp and a
   counter.
 """
@@ -290,12 +291,12 @@ def _lock(fd: int) -> bool:
 
 
 def check_run_folder(folder: str | Path, *, overwrite: bool = False,
-                     continue_storage: bool = False, protect: tuple[Path, ...] = ()) -> None:
+                     continuing: bool = False, protect: tuple[Path, ...] = ()) -> None:
     """Refuse (`RunFolderError`) a run folder that a run may not write: a file, a symlink
     or a folder holding one, the folder of an input in ``protect`` (a study file's folder;
     a catalogue folder or anything below it), or an existing non-empty folder unless
-    ``overwrite`` or ``continue_storage`` (it holds the optuna storage this run
-    continues)."""
+    ``overwrite`` or ``continuing`` (the caller found that this run continues the optuna
+    study whose results the folder holds, `optimag.runfolder.continues_optuna_run`)."""
     folder = Path(folder)
     if folder.is_symlink():
         raise RunFolderError(f"run folder {folder} is a symlink; give a real folder")
@@ -318,7 +319,7 @@ def check_run_folder(folder: str | Path, *, overwrite: bool = False,
             "through symlinks: remove it or choose another --out")
     if _is_empty(folder) or overwrite:
         return
-    if continue_storage and (folder / STORAGE_NAME).is_file():
+    if continuing:
         return
     raise RunFolderError(
         f"run folder {folder} is not empty; choose a new --out, or pass --overwrite to "
@@ -327,7 +328,7 @@ def check_run_folder(folder: str | Path, *, overwrite: bool = False,
 
 @contextlib.contextmanager
 def claim_run_folder(folder: str | Path, *, overwrite: bool = False,
-                     continue_storage: bool = False,
+                     continuing: bool = False,
                      protect: tuple[Path, ...] = (),
                      discard_if_unused: bool = False) -> Iterator[Path]:
     """Check ``folder`` (`check_run_folder`), create it and hold its lock for the block.
@@ -352,7 +353,7 @@ def claim_run_folder(folder: str | Path, *, overwrite: bool = False,
             with _HELD_GUARD:
                 mine.depth -= 1
         return
-    check_run_folder(folder, overwrite=overwrite, continue_storage=continue_storage,
+    check_run_folder(folder, overwrite=overwrite, continuing=continuing,
                      protect=protect)
     try:
         folder.mkdir(parents=True, exist_ok=True)
@@ -374,7 +375,7 @@ def claim_run_folder(folder: str | Path, *, overwrite: bool = False,
             f"run folder {folder} is in use by {holder}; wait for it or choose another --out")
     try:
         # Checked again under the lock: another run may have filled it meanwhile.
-        check_run_folder(folder, overwrite=overwrite, continue_storage=continue_storage)
+        check_run_folder(folder, overwrite=overwrite, continuing=continuing)
         info = {"pid": os.getpid(), "host": socket.gethostname(),
                 "started": datetime.now().isoformat(timespec="seconds")}
         os.ftruncate(fd, 0)

@@ -37,10 +37,40 @@ RUN_FILES = ("study.toml", "pareto.csv", "shortlist.csv", "shortlist.xlsx", "sho
              REPORT_NAME, "run.json")
 
 
-def _uses_folder_storage(result: ExploreResult, run_dir: Path) -> bool:
-    shown = (result.record.get("optuna") or {}).get("storage", "")
-    return shown.startswith("sqlite:") and shown.endswith(
-        str((run_dir / files.STORAGE_NAME).resolve()))
+def continues_optuna_run(folder: Path | str, storage_url: str | None) -> bool:
+    """True when a run of the optuna strategy with ``storage_url`` (None: the default
+    ``optuna.db`` in the folder) continues the run whose results ``folder`` holds: the
+    folder keeps that storage, or its run.json names the same storage."""
+    from optimag.search.optuna_search import shown_storage
+
+    folder = Path(folder)
+    if not folder.is_dir():
+        return False
+    if storage_url is None:
+        return (folder / files.STORAGE_NAME).is_file()
+    try:
+        meta = json.loads((folder / "run.json").read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return False
+    stored = (meta.get("optuna") or {}).get("storage") if isinstance(meta, dict) else None
+    return stored is not None and stored == shown_storage(storage_url)
+
+
+def _continues(result: ExploreResult, run_dir: Path) -> bool:
+    settings = result.record.get("optuna")
+    if not settings:
+        return False
+    shown = settings.get("storage", "")
+    folder_db = f"sqlite:///{(Path(run_dir) / files.STORAGE_NAME).resolve()}"
+    from optimag.search.optuna_search import shown_storage
+
+    if shown == shown_storage(folder_db):
+        return (Path(run_dir) / files.STORAGE_NAME).is_file()
+    try:
+        meta = json.loads((Path(run_dir) / "run.json").read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return False
+    return isinstance(meta, dict) and (meta.get("optuna") or {}).get("storage") == shown
 
 
 def write_run(result: ExploreResult, run_dir: Path | str | None = None, *,
@@ -49,7 +79,7 @@ def write_run(result: ExploreResult, run_dir: Path | str | None = None, *,
 
     The folder is claimed for the write (`optimag.files.claim_run_folder`: refused when
     another run holds it, when it is or holds a symlink, or when it is not empty, unless
-    ``overwrite`` or it holds the optuna storage of this result). Every file is first
+    ``overwrite`` or this result continues the optuna run it holds). Every file is first
     written into a fresh sub-folder and built into the report there; only when all are
     complete are they moved into place one by one (`os.replace`), run.json last, and
     files of an earlier run that this one does not write are removed. A failed write
@@ -59,7 +89,7 @@ def write_run(result: ExploreResult, run_dir: Path | str | None = None, *,
     """
     run_dir = Path(run_dir) if run_dir else default_run_dir(result.study)
     with files.claim_run_folder(
-        run_dir, overwrite=overwrite, continue_storage=_uses_folder_storage(result, run_dir),
+        run_dir, overwrite=overwrite, continuing=_continues(result, run_dir),
         protect=_inputs_of(result),
     ):
         started = time.perf_counter()

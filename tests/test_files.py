@@ -143,10 +143,10 @@ def test_non_empty_folder_is_refused_unless_overwrite(tmp_path):
     files.check_run_folder(tmp_path, overwrite=True)
 
 
-def test_folder_with_a_storage_may_be_continued(tmp_path):
+def test_folder_of_a_continued_run_is_accepted(tmp_path):
     (tmp_path / files.STORAGE_NAME).write_bytes(b"")
     (tmp_path / "run.json").write_text("{}")
-    files.check_run_folder(tmp_path, continue_storage=True)
+    files.check_run_folder(tmp_path, continuing=True)
     with pytest.raises(RunFolderError):
         files.check_run_folder(tmp_path)
 

@@ -216,6 +216,22 @@ def test_two_runs_into_one_folder_leave_one_complete_run(tmp_path):
     assert "D0001" in (out / "report.html").read_text(encoding="utf-8")
 
 
+def test_collecting_a_shared_storage_again_into_the_same_folder(tmp_path, capsys):
+    """README: re-run `optimag explore` with the same --storage and --out to collect."""
+    study = write_tiny_study(tmp_path)
+    url = f"sqlite:///{tmp_path / 'shared.db'}"
+    out = tmp_path / "run"
+    args = ["explore", str(study), "--strategy", "optuna", "--storage", url, "--out",
+            str(out)]
+    assert cli.main([*args, "--trials", "40"]) in (0, 1)
+    assert cli.main([*args, "--trials", "60"]) in (0, 1)
+    assert json.loads((out / "run.json").read_text())["optuna"]["complete_trials"] == 60
+    other = tmp_path / "other.db"
+    code = cli.main(["explore", str(study), "--strategy", "optuna", "--storage",
+                     f"sqlite:///{other}", "--out", str(out), "--trials", "40"])
+    assert code == 2 and "not empty" in capsys.readouterr().err
+
+
 def test_default_folders_are_unique(tmp_path, tiny_result, monkeypatch):
     monkeypatch.chdir(tmp_path)
     first = optimag.write_run(tiny_result)
