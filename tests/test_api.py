@@ -43,10 +43,10 @@ def test_explore_strategy_argument_overrides_the_study(tmp_path):
 def test_explore_in_a_storage_resumes(tmp_path):
     study = write_tiny_study(tmp_path)
     url = f"sqlite:///{tmp_path / 'trials.db'}"
-    optimag.explore(study, strategy="optuna", trials=64, seed=1, storage=url)
-    again = optimag.explore(study, strategy="optuna", trials=96, seed=1, storage=url)
-    assert again.record["optuna"]["complete_trials"] == 96
-    assert again.record["optuna"]["trials_this_run"] == 32
+    optimag.explore(study, strategy="optuna", trials=32, seed=1, storage=url)
+    again = optimag.explore(study, strategy="optuna", trials=48, seed=1, storage=url)
+    assert again.record["optuna"]["complete_trials"] == 48
+    assert again.record["optuna"]["trials_this_run"] == 16
 
 
 def test_the_command_calls_the_library(tmp_path, monkeypatch):
