@@ -393,8 +393,10 @@ def display(name: str, value) -> str:
     return f"{rounded:.{decimals}f}"
 
 
-def number_format(name: str) -> str:
-    """A spreadsheet number format showing figure ``name`` at its trade precision."""
+def number_format(name: str, value=None) -> str:
+    """A spreadsheet number format showing figure ``name`` (and, given, this ``value``)
+    at the trade's precision: fixed decimals for money, whole numbers for counts, and for
+    a significant-digit figure as many decimals as ``value`` needs (0.648, 11.0, 1230)."""
     fig = FIGURES.get(name)
     if fig is None or fig.scope == "text":
         return "General"
@@ -402,7 +404,14 @@ def number_format(name: str) -> str:
         return "0." + "0" * fig.decimals if fig.decimals else "0"
     if fig.digits is None:
         return "0"
-    return "General"  # values are already rounded to their significant digits
+    rounded = trade_value(name, value)
+    if not isinstance(rounded, float) or rounded == 0 or not math.isfinite(rounded):
+        return "General"
+    magnitude = math.floor(math.log10(abs(rounded)))
+    if magnitude >= 6 or magnitude < -4:
+        return "0." + "0" * (fig.digits - 1) + "E+00"
+    decimals = max(fig.digits - 1 - magnitude, 0)
+    return "0." + "0" * decimals if decimals else "0"
 
 
 def trade_row(row: dict) -> dict:

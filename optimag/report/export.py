@@ -94,9 +94,8 @@ def _table_sheet(book, title: str, rows: list[dict], columns: list[str], currenc
         cell.font = bold
     for index, name in enumerate(columns, start=1):
         letter = get_column_letter(index)
-        fmt = records.number_format(name)
         for cell in sheet[letter][2:]:
-            cell.number_format = fmt
+            cell.number_format = records.number_format(name, cell.value)
         sheet.column_dimensions[letter].width = max(9, min(28, len(name) + 2))
     sheet.freeze_panes = "B3"
     last = get_column_letter(max(len(columns), 1))
@@ -118,7 +117,7 @@ def _build_sheet(book, title: str, record: dict, currency: str) -> None:
         cell_value = records.trade_value(name, record[name])
         sheet.append([records.figure(name).label, cell_value,
                       records.unit_text(name, currency), name])
-        sheet.cell(sheet.max_row, 2).number_format = records.number_format(name)
+        sheet.cell(sheet.max_row, 2).number_format = records.number_format(name, cell_value)
     sheet.append([])
     sheet.append(["parts to order", "quantity", "description"])
     for cell in sheet[sheet.max_row]:

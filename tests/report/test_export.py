@@ -64,6 +64,14 @@ def test_xlsx_layout(folder):
     assert sheet.max_row == 2 + len(designs)
     cost = sheet.cell(3, names.index("cost") + 1)
     assert cost.number_format == "0.00"
+    # Significant digits shown as such: 3 digits of a figure below 1 need 3 decimals.
+    for row in range(3, sheet.max_row + 1):
+        gap = sheet.cell(row, names.index("gap_mm") + 1)
+        if 0.1 <= gap.value < 1:
+            assert gap.number_format == "0.000"
+        volume = sheet.cell(row, names.index("volume_cm3") + 1)
+        if 10 <= volume.value < 100:
+            assert volume.number_format == "0.0"
     # A sheet per operating point: each design's figures and inputs at that point.
     first = book[book.sheetnames[1]]
     header = [c.value for c in first[1]]
