@@ -736,6 +736,10 @@ def hand_sizing_table(run: RunData) -> pd.DataFrame:
             standing = f"breaks {entry.get('worst_constraint') or rec.get('worst_constraint')}"
         elif beaten:
             standing = f"{beaten} front design(s) beat it on every objective"
+        elif entry.get("same_as_front_design"):
+            standing = f"on the front: the search's {entry['same_as_front_design']}"
+        elif not entry.get("turns_in_search_range", True):
+            standing = "no front design beats it (its turns lie outside the searched range)"
         else:
             standing = "meets the front: no front design beats it"
         row = {c: rec.get(c) for c in columns}

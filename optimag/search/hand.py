@@ -79,11 +79,12 @@ def _cores_by_area_product(space: model.DesignSpace, material: int) -> list[tupl
 
 
 def hand_sizing(
-    space: model.DesignSpace, objectives: list[str], front: np.ndarray | None
+    space: model.DesignSpace, objectives: list[str], front: np.ndarray | None,
+    front_ids: list[str] | None = None,
 ) -> dict:
     """The hand procedure's design for each ferrite material, evaluated with the model,
     with its place against the front (``front``: the front's objective matrix in the
-    study's objective order, or None)."""
+    study's objective order, or None; ``front_ids`` its design ids, row for row)."""
     picked = []
     skipped = []
     tried = []
@@ -129,10 +130,15 @@ def hand_sizing(
     values = model.objective_matrix(metrics, objectives)
     for i, rec in enumerate(hand_records):
         beaten_by = 0
+        same_as = None
         if front is not None and len(front):
             no_worse = np.all(front <= values[i] * (1 + 1e-12), axis=1)
             better = np.any(front < values[i] * (1 - 1e-12), axis=1)
             beaten_by = int(np.sum(no_worse & better))
+            equal = np.flatnonzero(np.all(np.isclose(front, values[i], rtol=1e-9, atol=0),
+                                          axis=1))
+            if len(equal) and front_ids is not None:
+                same_as = front_ids[int(equal[0])]
         first_core, first_stack, steps, found = tried[i]
         out["designs"].append({
             "first_core": first_core,
@@ -140,6 +146,10 @@ def hand_sizing(
             "cores_up_from_first": steps,
             "meets_every_limit": found,
             "front_designs_beating_it": beaten_by,
+            "same_as_front_design": same_as,
+            # Turns outside the study's range: the search could not have found it.
+            "turns_in_search_range": bool(space.turns.min() <= rec["turns"]
+                                          <= space.turns.max()),
             "worst_constraint": rec.get("worst_constraint"),
             "record": rec,
         })

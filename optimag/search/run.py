@@ -129,6 +129,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
     tolerance_record: dict = {}
     pareto = pd.DataFrame(columns=records.PARETO_COLUMNS)
     shortlist_records: list[dict] = []
+    front_ids: list[str] = []
+    order = np.arange(0)
     if len(front):
         order = np.lexsort(front.objectives.T[::-1])
         front_candidates = model.Candidates(
@@ -136,6 +138,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         )
         front_metrics = model.evaluate(space, front_candidates)
         ids = [f"D{i + 1:04d}" for i in range(len(order))]
+        front_ids = ids
         front_records = records.design_records(space, front_candidates, front_metrics, ids)
         knee = knee_index(front.objectives[order])
         for i, rec in enumerate(front_records):
@@ -210,7 +213,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         "currency": study.cost.currency,
         "near_misses": near_records,
         "hand_sizing": hand_sizing(
-            catalogue_space or space, objectives, front.objectives if len(front) else None
+            catalogue_space or space, objectives,
+            front.objectives[order] if len(front) else None, front_ids,
         ),
         "tolerance": tolerance_record,
         "robust": _robust_record(study, outcome, objectives),

@@ -78,6 +78,9 @@ def test_hand_design_follows_the_procedure(result):
         assert rec["area_product_cm4"] >= rec["area_product_required_cm4"]
         if entry["meets_every_limit"]:
             assert rec["feasible"]
+        # A feasible hand design is on the exact front or beaten by a member of it.
+        if rec["feasible"] and entry["turns_in_search_range"]:
+            assert entry["front_designs_beating_it"] > 0 or entry["same_as_front_design"]
 
 
 def test_every_record_carries_ap_and_kg(result):
