@@ -126,6 +126,10 @@ class CoreArrays:
     height_m: np.ndarray
     price: np.ndarray
     max_stack: np.ndarray
+    #: One outer leg's width (E) or the skirt's radial thickness (pot); 0 for a ring [m].
+    outer_leg_width_m: np.ndarray
+    #: Face area of all outer legs of one set at the gap; 0 for a ring [m^2].
+    outer_leg_area_m2: np.ndarray
 
     @classmethod
     def from_frame(cls, cores: pd.DataFrame) -> CoreArrays:
@@ -147,6 +151,8 @@ class CoreArrays:
             height_m=_mm(cores["height_mm"]),
             price=cores["price"].astype(float).to_numpy(),
             max_stack=cores["max_stack"].astype(int).to_numpy(),
+            outer_leg_width_m=_mm(_optional(cores, "outer_leg_width_mm")),
+            outer_leg_area_m2=_mm2(_optional(cores, "outer_leg_area_mm2")),
         )
 
 
@@ -390,10 +396,27 @@ class DesignSpace:
     stacks: np.ndarray
     parallels: np.ndarray
     gap_grid_m: np.ndarray | None  # None: gap solved for the inductance
+    #: How the gap may be made: "centre" (ground centre leg) and/or "spacer" (every leg).
+    gap_kinds: tuple[str, ...] = ("centre",)
+
+    @property
+    def n_gap_values(self) -> int:
+        return 1 if self.gap_grid_m is None else len(self.gap_grid_m)
 
     @property
     def n_gap_options(self) -> int:
-        return 1 if self.gap_grid_m is None else len(self.gap_grid_m)
+        """Gap options: every allowed gap kind times every gap value (option = kind index
+        * values + value index)."""
+        return len(self.gap_kinds) * self.n_gap_values
+
+    def gap_option_spacer(self, gap_option: np.ndarray) -> np.ndarray:
+        """True where a gap option is made with a spacer (every leg gapped)."""
+        kinds = np.array([kind == "spacer" for kind in self.gap_kinds])
+        return kinds[np.asarray(gap_option, dtype=np.int64) // self.n_gap_values]
+
+    def gap_option_value(self, gap_option: np.ndarray) -> np.ndarray:
+        """Index into the gap grid of a gap option."""
+        return np.asarray(gap_option, dtype=np.int64) % self.n_gap_values
 
 
 def _finite_or_inf(value) -> float:
@@ -445,6 +468,7 @@ def build_design_space(study, catalog) -> DesignSpace:
         stacks=np.arange(search.stack_min, search.stack_max + 1, dtype=np.int64),
         parallels=np.arange(search.parallel_min, search.parallel_max + 1, dtype=np.int64),
         gap_grid_m=gap_grid,
+        gap_kinds=tuple(search.gap_kinds),
     )
 
 
@@ -459,17 +483,31 @@ def gap_allowed(space: DesignSpace, core: np.ndarray, material: np.ndarray) -> n
     return (space.materials.kind[material] == 0) & (space.cores.family[core] != 2)
 
 
-def gapped_leg_sides(
-    space: DesignSpace, core: np.ndarray, stack: np.ndarray
-) -> tuple[np.ndarray, np.ndarray]:
-    """Width and depth [m] of the gapped leg as a rectangle: a round pot-core post becomes
-    the square of equal area, which is how the rectangular-leg fringing model applies."""
+def gap_geometry(
+    space: DesignSpace, core: np.ndarray, stack: np.ndarray, gap_option: np.ndarray
+) -> magnetic.GapGeometry:
+    """What is gapped, for the gap models: the gapped leg's face (a pot core's round post
+    of diameter `leg_width`, an E core's rectangular centre leg with the stack's depth), the
+    window, the yoke, the outer legs' faces and whether a spacer gaps every leg."""
     c = space.cores
-    round_post = c.family[core] == 1
-    side = c.leg_width_m[core] * (np.sqrt(np.pi) / 2.0)
-    width = np.where(round_post, side, c.leg_width_m[core])
-    depth = np.where(round_post, side, c.leg_depth_m[core] * np.asarray(stack, dtype=float))
-    return width, depth
+    stack_f = np.asarray(stack, dtype=float)
+    round_leg = c.family[core] == 1
+    width = c.leg_width_m[core]
+    depth = np.where(round_leg, width, c.leg_depth_m[core] * stack_f)
+    face = np.where(round_leg, 0.25 * np.pi * width * width, width * depth)
+    return magnetic.GapGeometry(
+        ae_m2=face,
+        winding_length_m=c.breadth_m[core],
+        leg_width_m=width,
+        leg_depth_m=depth,
+        round_leg=round_leg,
+        window_width_m=c.window_width_m[core],
+        outer_leg_width_m=c.outer_leg_width_m[core],
+        outer_area_m2=c.outer_leg_area_m2[core] * np.where(round_leg, 1.0, stack_f),
+        outer_legs=np.where(round_leg, 1.0, 2.0),
+        yoke_thickness_m=np.maximum(0.5 * (c.height_m[core] - c.breadth_m[core]), 0.0),
+        spacer=space.gap_option_spacer(gap_option),
+    )
 
 
 @_quiet
@@ -495,7 +533,7 @@ def magnetic_stage(
     amin = c.amin_m2[core] * stack_f
     le = c.le_m[core]
     ve = c.ve_m3[core] * stack_f
-    leg_w, leg_d = gapped_leg_sides(space, core, stack)
+    geometry = gap_geometry(space, core, stack, gap_option)
     breadth = c.breadth_m[core]
     mu_i = m.mu_i[material]
     powder = m.kind[material] == 1
@@ -505,16 +543,19 @@ def magnetic_stage(
     if space.gap_grid_m is None:
         solved = magnetic.gap_for_inductance(
             n_turns, req.inductance_H, le, ae, mu_i, breadth,
-            fringing=req.fringing, leg_width_m=leg_w, leg_depth_m=leg_d,
+            fringing=req.fringing, geometry=geometry,
         )
         gap = np.where(can_gap, solved, 0.0)
     else:
-        gap = np.where(can_gap, space.gap_grid_m[gap_option], 0.0)
+        gap = np.where(can_gap, space.gap_grid_m[space.gap_option_value(gap_option)], 0.0)
     unreachable = np.isnan(gap)
     gap = np.where(unreachable, 0.0, gap)
 
     r_core = magnetic.core_reluctance(le, ae, mu_i)
-    r_gap = magnetic.gap_reluctance(gap, ae, breadth, leg_w, leg_d, model=req.fringing)
+    r_gap = magnetic.gap_reluctance(
+        gap, ae, breadth, geometry.leg_width_m, geometry.leg_depth_m, model=req.fringing,
+        geometry=geometry,
+    )
     # Powder: mu_i is the initial permeability; its roll-off starts from 1/a at H = 0.
     powder_l0 = magnetic.powder_inductance(
         n_turns, 0.0, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
@@ -1199,8 +1240,9 @@ def design_details(
     Per operating point (n, K): ``dc_resistance_ohm`` at the settled temperature (the
     resistance the DC winding loss was computed with; a runaway point at the temperature
     limit). Per design (n,): ``al_value_H`` (inductance at zero current per turn squared),
-    ``gap_centre_leg_m`` and ``gap_outer_leg_m`` (the model gaps the leg the winding sits
-    on only), ``winding_length_m`` (turns x MLT, one conductor), ``wire_length_m`` (each
+    ``gap_centre_leg_m`` and ``gap_outer_leg_m`` (a ground centre leg gaps the centre leg
+    only; a spacer gaps every leg by its thickness), ``gap_spacer`` (bool),
+    ``winding_length_m`` (turns x MLT, one conductor), ``wire_length_m`` (each
     parallel conductor with `LEAD_ALLOWANCE_M` at both ends, all conductors together),
     ``copper_mass_kg``, area product and geometry coefficient with their required values.
     """
@@ -1222,7 +1264,10 @@ def design_details(
         "dc_resistance_ohm": rdc,
         "al_value_H": metrics["inductance_H"] / n_turns**2,
         "gap_centre_leg_m": metrics["gap_m"],
-        "gap_outer_leg_m": np.zeros_like(metrics["gap_m"]),
+        "gap_outer_leg_m": np.where(
+            space.gap_option_spacer(candidates.gap_option), metrics["gap_m"], 0.0
+        ),
+        "gap_spacer": space.gap_option_spacer(candidates.gap_option) & (metrics["gap_m"] > 0),
         "winding_length_m": winding_length,
         "wire_length_m": n_par * (winding_length + 2 * LEAD_ALLOWANCE_M),
         "area_product_m4": sizing.area_product(ae, window),
@@ -1272,9 +1317,10 @@ def inductance_curve(
             m.bsat_100C_T[material],
         )[:, None]
         current_at_bsat = bsat * n_turns * amin / l0
-        leg_w, leg_d = gapped_leg_sides(space, core, candidates.stack)
+        geometry = gap_geometry(space, core, candidates.stack, candidates.gap_option)
         r_gap = magnetic.gap_reluctance(
-            metrics["gap_m"], ae[:, 0], c.breadth_m[core], leg_w, leg_d, model=req.fringing
+            metrics["gap_m"], ae[:, 0], c.breadth_m[core], geometry.leg_width_m,
+            geometry.leg_depth_m, model=req.fringing, geometry=geometry,
         )[:, None]
         saturated = magnetic.inductance(n_turns, magnetic.core_reluctance(le, ae, 1.0) + r_gap)
     ferrite = np.where(current <= current_at_bsat, l0, saturated)

@@ -25,7 +25,7 @@ import pandas as pd
 
 from optimag import model
 from optimag.errors import ValidityRangeWarning
-from optimag.physics import coreloss, winding
+from optimag.physics import coreloss, magnetic, winding
 
 SCOPES = ("design", "point", "worst", "weighted", "limit", "text")
 
@@ -98,15 +98,18 @@ register(
        "inductance)", None, "text"),
     # --- magnetic -----------------------------------------------------------------
     _f("gap_mm", "mm", "Air gap",
-       "Total air gap of the magnetic path, cut in the leg the winding sits on; 0 for "
-       "powder (distributed gap) and ungapped rings"),
+       "Gap length per gapped leg: the centre leg's gap of a ground core, the spacer "
+       "thickness of a spacer-gapped core; 0 for powder (distributed gap) and ungapped "
+       "rings"),
     _f("gap_centre_leg_mm", "mm", "Gap, centre leg",
-       "Air gap in the centre leg (post) of an E or pot core: grind each half's centre "
-       "leg by half of it; the whole gap of a gapped core"),
+       "Air gap in the centre leg (post) of an E or pot core: ground, each half's centre "
+       "leg loses half of it; with a spacer, the spacer thickness"),
     _f("gap_outer_leg_mm", "mm", "Gap, outer legs",
-       "Air gap in each outer leg (the model gaps the centre leg only: outer legs butt)"),
+       "Air gap in each outer leg (skirt): the spacer thickness when a spacer gaps every "
+       "leg, 0 when the centre leg is ground and the outer legs touch"),
     _f("gap_method", "", "How the gap is made",
-       "Words: ground centre leg, distributed (powder) or none", None, "text"),
+       "Words: ground centre leg, spacer under every leg, distributed (powder) or none",
+       None, "text"),
     _f("inductance_uH", "µH", "Inductance", "Inductance at zero current"),
     _f("inductance_at_peak_uH", "µH", "Inductance at peak",
        "Inductance at the highest peak current of all operating points", 3, "worst"),
@@ -441,12 +444,18 @@ def pareto_frame(design_records: list[dict]) -> pd.DataFrame:
     return frame[PARETO_COLUMNS]
 
 
-def gap_method(family: str, material_kind: str, gap_mm: float) -> str:
+def gap_method(family: str, material_kind: str, gap_mm: float, spacer: bool = False) -> str:
     """How the gap of a design is made, in words (common practice, no source)."""
     if material_kind == "powder":
         return "none cut: distributed in the powder material"
     if gap_mm <= 0:
         return "none: halves butt on every leg" if family != "toroid" else "none: closed ring"
+    if spacer:
+        legs = "post and skirt" if family == "pot" else "centre and outer legs"
+        return (
+            f"spacer: {gap_mm:.3g} mm thick non-magnetic spacer between the halves, gapping "
+            f"the {legs} by {gap_mm:.3g} mm each"
+        )
     return (
         f"ground centre leg: {gap_mm:.3g} mm in the centre leg "
         f"({gap_mm / 2:.3g} mm off each half's centre leg), outer legs butt"
@@ -515,6 +524,37 @@ def _hottest(metrics: dict, i: int) -> int:
     return int(np.argmax(np.where(runaway, np.inf, temps)))
 
 
+def _gap_inputs(space, candidates, metrics, details, i: int) -> dict:
+    """What was gapped, so the fringing can be recomputed by hand: gap kind, the gapped
+    leg (post diameter or leg width and depth, stack included), window height and width,
+    yoke thickness, outer-leg faces, the gap per leg and the gap model."""
+    c = space.cores
+    core, stack = candidates.core[i], float(candidates.stack[i])
+    family = _FAMILY_NAMES[int(c.family[core])]
+    if family == "toroid" or metrics["gap_m"][i] <= 0:
+        return {"gap_kind": "none"}
+    spacer = bool(details["gap_spacer"][i])
+    leg: dict = (
+        {"post_diameter_mm": float(c.leg_width_m[core] * 1e3)}
+        if family == "pot"
+        else {"leg_width_mm": float(c.leg_width_m[core] * 1e3),
+              "leg_depth_mm": float(c.leg_depth_m[core] * stack * 1e3)}
+    )
+    outer_area = c.outer_leg_area_m2[core] * (1.0 if family == "pot" else stack)
+    return {
+        "gap_kind": "spacer" if spacer else "centre",
+        **leg,
+        "window_height_mm": float(c.breadth_m[core] * 1e3),
+        "window_width_mm": float(c.window_width_m[core] * 1e3),
+        "yoke_thickness_mm": float(max(c.height_m[core] - c.breadth_m[core], 0.0) * 500.0),
+        "outer_leg_width_mm": float(c.outer_leg_width_m[core] * 1e3),
+        "outer_leg_area_mm2": float(outer_area * 1e6),
+        "gap_centre_leg_mm": float(details["gap_centre_leg_m"][i] * 1e3),
+        "gap_outer_leg_mm": float(details["gap_outer_leg_m"][i] * 1e3),
+        "gap_model": space.requirements.fringing,
+    }
+
+
 def _inputs(space, candidates, metrics, details, i: int, k: int) -> dict:
     c, m, op = space.cores, space.materials, space.operating
     core, mat = candidates.core[i], candidates.material[i]
@@ -529,6 +569,7 @@ def _inputs(space, candidates, metrics, details, i: int, k: int) -> dict:
         "Ve_mm3": float(c.ve_m3[core] * stack * 1e9),
         "mu_r": float(m.mu_i[mat]),
         "window_breadth_mm": float(c.breadth_m[core] * 1e3),
+        **_gap_inputs(space, candidates, metrics, details, i),
         "mlt_mm": float(metrics["mlt_m"][i] * 1e3),
         "copper_area_mm2": float(metrics["copper_area_m2"][i] * 1e6),
         "dc_resistance_mOhm": float(details["dc_resistance_ohm"][i, k] * 1e3),
@@ -592,7 +633,8 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         "stack": int(candidates.stack[i]),
         "turns": int(candidates.turns[i]),
         "gap_mm": gap_mm,
-        "gap_method": gap_method(family, material_kind, gap_mm),
+        "gap_method": gap_method(family, material_kind, gap_mm,
+                                 bool(details["gap_spacer"][i])),
         "gap_centre_leg_mm": float(details["gap_centre_leg_m"][i] * 1e3),
         "gap_outer_leg_mm": float(details["gap_outer_leg_m"][i] * 1e3),
         "wire": str(w.ids[wire]),
@@ -688,8 +730,8 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
 
 def _model_notes(space, candidates, metrics, i, runaway_models=()) -> list[str]:
     """Where this design's figures rest on a model used outside its stated range."""
-    m, c, op = space.materials, space.cores, space.operating
-    mat, core = candidates.material[i], candidates.core[i]
+    m, _c, op = space.materials, space.cores, space.operating
+    mat, _core = candidates.material[i], candidates.core[i]
     notes = []
     amplitude = metrics["flux_swing_T"][i] / 2
     with warnings.catch_warnings():
@@ -705,9 +747,15 @@ def _model_notes(space, candidates, metrics, i, runaway_models=()) -> list[str]:
             f"{float(np.max(amplitude)):.3f} T flux amplitude"
         )
     gap = metrics["gap_m"][i]
-    if gap > 0 and space.requirements.fringing == "mclyman" and gap > c.breadth_m[core]:
-        notes.append("gap fringing: gap longer than the winding breadth, beyond the range "
-                     "of McLyman's fringing factor")
+    fringing = space.requirements.fringing
+    geometry = model.gap_geometry(
+        space, candidates.core[[i]], candidates.stack[[i]], candidates.gap_option[[i]]
+    )
+    if gap > 0 and np.any(
+        magnetic.GAP_RELUCTANCE_MODELS[fringing].outside_range(np.array([gap]), geometry)
+    ):
+        notes.append(f"gap fringing: a {gap * 1e3:.3g} mm gap is beyond the range of the "
+                     f"{fringing} gap model")
     if metrics["outside_thermal_model"][i]:
         notes.append(
             f"thermal: the {space.requirements.thermal_model} model "

@@ -279,10 +279,13 @@ def evaluate_deviations(
         ),
         wires=_scaled_wires(space.wires, wire_rows[:, 0].astype(np.int64), wire_rows[:, 1]),
         gap_grid_m=gap,
+        gap_kinds=("centre", "spacer"),
     )
+    # Each row keeps its design's gap kind: option = kind * rows + row.
+    spacer = space.gap_option_spacer(cand.gap_option).astype(np.int64)
     cand = dataclasses.replace(
         cand, material=material_of_row.ravel(), wire=wire_of_row.ravel(),
-        gap_option=np.arange(n_rows),
+        gap_option=spacer * n_rows + np.arange(n_rows),
     )
     # Rows grouped by ambient, evaluated group by group, put back in row order at the end.
     ambient_key = np.round(dev.ambient_C / AMBIENT_STEP_K).astype(np.int64)

@@ -58,9 +58,13 @@ def test_stored_energy_identity(tiny_space):
     assert ferrite_gapped.any()
     i = np.flatnonzero(ferrite_gapped)
     ae = c.ae_m2[cands.core[i]] * cands.stack[i]
+    geometry = model.gap_geometry(tiny_space, cands.core[i], cands.stack[i], cands.gap_option[i])
     r_total = magnetic.core_reluctance(
         c.le_m[cands.core[i]], ae, tiny_space.materials.mu_i[cands.material[i]]
-    ) + magnetic.gap_reluctance_mclyman(metrics["gap_m"][i], ae, c.breadth_m[cands.core[i]])
+    ) + magnetic.gap_reluctance(
+        metrics["gap_m"][i], ae, c.breadth_m[cands.core[i]], geometry.leg_width_m,
+        geometry.leg_depth_m, tiny_space.requirements.fringing, geometry=geometry,
+    )
     current = 3.0
     energy_l = 0.5 * metrics["inductance_H"][i] * current**2
     energy_r = 0.5 * cands.turns[i] ** 2 * current**2 / r_total

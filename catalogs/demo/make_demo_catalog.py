@@ -28,7 +28,8 @@ FERRITE_DENSITY = 4800.0
 
 CORE_COLUMNS = (
     "id", "family", "Ae_mm2", "le_mm", "Ve_mm3", "Amin_mm2", "window_area_mm2",
-    "window_breadth_mm", "window_width_mm", "leg_width_mm", "leg_depth_mm", "bobbin_wall_mm",
+    "window_breadth_mm", "window_width_mm", "leg_width_mm", "leg_depth_mm",
+    "outer_leg_width_mm", "outer_leg_area_mm2", "bobbin_wall_mm",
     "length_mm", "width_mm", "height_mm", "surface_mm2", "mass_g", "price", "max_stack",
 )  # fmt: skip
 MATERIAL_COLUMNS = (
@@ -83,20 +84,26 @@ E_PROPORTIONS = {
 def e_core(name: str, length: float, style: str) -> dict[str, str]:
     """A pair of E halves with a rectangular centre leg.
 
-    The mean path is the rectangle through the centre-lines of legs and yokes: centre leg
-    and outer legs each of length (window breadth + yoke thickness), the two yoke stretches
-    each of length (centre/2 + window width + outer/2). Outer legs and both yoke halves
-    carry half the flux each, so their two areas add.
+    Sections as IEC 60205 treats an E pair: centre leg and outer legs (together) each of
+    length h (window breadth), the yokes of length 2·(window width), and four corners, each
+    a quarter circle through the middle of the corner: length (π/8)·(b + y) at an outer
+    corner and (π/8)·(a/2 + y) at a centre corner, with the mean
+    of the two areas it joins (a centre width, b outer width, y yoke thickness). Outer legs
+    and both yoke halves carry half the flux each, so their two areas add.
     """
     p = E_PROPORTIONS[style]
     centre, outer, yoke = p["centre"] * length, p["outer"] * length, p["yoke"] * length
     depth, height = p["depth"] * length, p["height"] * length
     window_width = (length - centre - 2.0 * outer) / 2.0
     window_breadth = height - 2.0 * yoke
-    leg_path = window_breadth + yoke
-    yoke_path = centre / 2.0 + window_width + outer / 2.0
     areas = (centre * depth, 2.0 * outer * depth, 2.0 * yoke * depth)
-    sections = [(leg_path, areas[0]), (leg_path, areas[1]), (2.0 * yoke_path, areas[2])]
+    sections = [
+        (window_breadth, areas[0]),
+        (window_breadth, areas[1]),
+        (2.0 * window_width, areas[2]),
+        (2.0 * math.pi / 8.0 * (outer + yoke), (areas[1] + areas[2]) / 2.0),
+        (2.0 * math.pi / 8.0 * (centre / 2.0 + yoke), (areas[0] + areas[2]) / 2.0),
+    ]
     ae, le, ve = effective_parameters(sections)
     ferrite_volume = length * height * depth - 2.0 * window_width * window_breadth * depth
     mass = ferrite_volume * 1e-9 * FERRITE_DENSITY * 1e3
@@ -113,6 +120,8 @@ def e_core(name: str, length: float, style: str) -> dict[str, str]:
         "window_width_mm": fixed(window_width, 2),
         "leg_width_mm": fixed(centre, 2),
         "leg_depth_mm": fixed(depth, 2),
+        "outer_leg_width_mm": fixed(outer, 2),
+        "outer_leg_area_mm2": fixed(2.0 * outer * depth, 1),
         "bobbin_wall_mm": fixed(bobbin_wall(length), 2),
         "length_mm": fixed(length, 2),
         "width_mm": fixed(depth, 2),
@@ -131,13 +140,15 @@ POT_SLOT_FACTOR = 0.85
 def pot_core(name: str, diameter: float) -> dict[str, str]:
     """A pair of pot halves with a solid round centre post.
 
+    The skirt's inner radius (0.45 of the diameter) makes the skirt's face, slots
+    deducted, about the post's area, so Ae comes out near the post's own π/4·d².
     Post and skirt are axial sections of length (window breadth + plate thickness); each
     plate is a radial section from the post radius r1 to the skirt's inner radius r2 with
     area 2π r t, integrated exactly: ∫dr/(2πrt) = ln(r2/r1)/(2πt) and
     ∫dr/(2πrt)² = (1/r1 − 1/r2)/(4π²t²).
     """
     post = 0.42 * diameter
-    r1, r2 = post / 2.0, 0.415 * diameter
+    r1, r2 = post / 2.0, 0.45 * diameter
     height = 0.59 * diameter
     window_breadth = 0.40 * diameter
     plate = (height - window_breadth) / 2.0
@@ -172,6 +183,8 @@ def pot_core(name: str, diameter: float) -> dict[str, str]:
         "window_width_mm": fixed(window_width, 2),
         "leg_width_mm": fixed(post, 2),
         "leg_depth_mm": fixed(post, 2),
+        "outer_leg_width_mm": fixed(diameter / 2.0 - r2, 2),
+        "outer_leg_area_mm2": fixed(skirt_area, 1),
         "bobbin_wall_mm": fixed(bobbin_wall(diameter), 2),
         "length_mm": fixed(diameter, 2),
         "width_mm": fixed(diameter, 2),
@@ -211,6 +224,8 @@ def ring_core(name: str, outer: float) -> dict[str, str]:
         "window_width_mm": fixed(inner / 2.0, 2),
         "leg_width_mm": fixed(r2 - r1, 2),
         "leg_depth_mm": fixed(height, 2),
+        "outer_leg_width_mm": "",
+        "outer_leg_area_mm2": "",
         "bobbin_wall_mm": "0",
         "length_mm": fixed(outer, 2),
         "width_mm": fixed(outer, 2),

@@ -217,6 +217,70 @@ def _check_core_minimum_area(row: RowValues) -> list[tuple[str, str]]:
     ]
 
 
+#: How far Ae may lie from the gapped leg's own face (round post pi/4 d², rectangular leg
+#: w·d) before the two contradict each other: the effective area is a weighted mean of the
+#: path's sections, of which the gapped leg is one, so in a sensibly proportioned E or pot
+#: set it lies near the leg's face (common practice, no source).
+AE_TO_LEG_RANGE = (0.75, 1.10)
+#: Tolerance for dimensions that must add up (leg, windows and outer legs to the outer
+#: length; outer-leg faces to their width times depth): rounding only.
+DIMENSION_TOLERANCE = 0.02
+
+
+def _check_core_gapped_leg(row: RowValues) -> list[tuple[str, str]]:
+    """The gapped leg against Ae and Amin, and the outer legs against the outer size."""
+    family = row.get("family")
+    if family not in ("E", "pot"):
+        return []
+    values = {name: row.get(name) for name in (
+        "Ae_mm2", "Amin_mm2", "leg_width_mm", "leg_depth_mm", "window_width_mm",
+        "outer_leg_width_mm", "outer_leg_area_mm2", "length_mm",
+    )}  # fmt: skip
+    if any(value is None for value in values.values()):
+        return []
+    v = {name: float(value) for name, value in values.items()}
+    found: list[tuple[str, str]] = []
+    width, depth = v["leg_width_mm"], v["leg_depth_mm"]
+    if family == "pot":
+        if _relative_deviation(depth, width) > DIMENSION_TOLERANCE:
+            found.append(("leg_depth_mm", f"leg_depth_mm = {depth:g} differs from leg_width_mm "
+                          f"= {width:g}; a pot core's post is round: both are its diameter"))
+        face, face_text = math.pi / 4.0 * width * width, "the post's π/4·d² = "
+    else:
+        face, face_text = width * depth, "the centre leg's width·depth = "
+    face_text += f"{face:.4g} mm²"
+    low, high = AE_TO_LEG_RANGE
+    ratio = v["Ae_mm2"] / face
+    if not low <= ratio <= high:
+        found.append(("Ae_mm2", f"Ae_mm2 = {v['Ae_mm2']:g} is {ratio:.2f}× {face_text}; "
+                      f"expected {low:g}-{high:g}× for the gapped leg of this set"))
+    if v["Amin_mm2"] > face * AMIN_MARGIN:
+        found.append(("Amin_mm2", f"Amin_mm2 = {v['Amin_mm2']:g} is larger than {face_text}; "
+                      "the gapped leg is one of the sections, so the smallest cannot exceed it"))
+    outer_w, outer_area = v["outer_leg_width_mm"], v["outer_leg_area_mm2"]
+    across = width + 2.0 * v["window_width_mm"] + 2.0 * outer_w
+    if _relative_deviation(across, v["length_mm"]) > DIMENSION_TOLERANCE:
+        found.append(("outer_leg_width_mm", f"leg_width_mm + 2·window_width_mm + "
+                      f"2·outer_leg_width_mm = {across:.4g} differs from length_mm = "
+                      f"{v['length_mm']:g}; expected within {100 * DIMENSION_TOLERANCE:g} %"))
+    if family == "E":
+        expected = 2.0 * outer_w * depth
+        if _relative_deviation(outer_area, expected) > DIMENSION_TOLERANCE:
+            found.append(("outer_leg_area_mm2", f"outer_leg_area_mm2 = {outer_area:g} differs "
+                          f"from 2·outer_leg_width_mm·leg_depth_mm = {expected:.4g}"))
+    else:
+        r_in = width / 2.0 + v["window_width_mm"]
+        ring = math.pi * ((r_in + outer_w) ** 2 - r_in**2)
+        if not 0.5 * ring <= outer_area <= ring * (1.0 + DIMENSION_TOLERANCE):
+            found.append(("outer_leg_area_mm2", f"outer_leg_area_mm2 = {outer_area:g} does not "
+                          f"fit the skirt ring of {ring:.4g} mm² (at most the ring, at least "
+                          "half of it with the wire slots)"))
+    if v["Amin_mm2"] > outer_area * AMIN_MARGIN:
+        found.append(("Amin_mm2", f"Amin_mm2 = {v['Amin_mm2']:g} is larger than the outer legs' "
+                      f"face outer_leg_area_mm2 = {outer_area:g}"))
+    return found
+
+
 def _check_core_window(row: RowValues) -> list[tuple[str, str]]:
     family = row.get("family")
     area, breadth, width = (
@@ -430,6 +494,12 @@ CORES = Table(
         _positive("window_width_mm", "radial depth available for the winding build [mm]"),
         _positive("leg_width_mm", "centre-leg width / post diameter / ring thickness [mm]"),
         _positive("leg_depth_mm", "centre-leg depth / post diameter / ring height [mm]"),
+        _positive("outer_leg_width_mm",
+                  "width of one outer leg (E) / radial thickness of the skirt (pot) [mm]",
+                  required_for=frozenset({"E", "pot"}), allowed_for=frozenset({"E", "pot"})),
+        _positive("outer_leg_area_mm2",
+                  "face area of all outer legs (E) / of the skirt (pot) at the gap [mm²]",
+                  required_for=frozenset({"E", "pot"}), allowed_for=frozenset({"E", "pot"})),
         _non_negative("bobbin_wall_mm", "bobbin wall thickness, 0 for a toroid [mm]"),
         _positive("length_mm", "outer length of one set on the board [mm]"),
         _positive("width_mm", "outer width of one set on the board, stacking direction [mm]"),
@@ -448,6 +518,7 @@ CORES = Table(
     row_checks=(
         _check_core_volume,
         _check_core_minimum_area,
+        _check_core_gapped_leg,
         _check_core_window,
         _check_core_bobbin,
     ),

@@ -124,6 +124,7 @@ def reference_inductance(
     mu_r: float = 2000.0,
     stack: int = 1,
     resolution: float = 1.0,
+    resolution_3d: float | None = None,
 ) -> dict[str, float]:
     """Inductance per turn² of a gapped catalogue core from field solutions.
 
@@ -140,7 +141,9 @@ def reference_inductance(
     stack : int
         Number of E sets side by side (pot: 1).
     resolution : float
-        Mesh density factor [1].
+        Mesh density factor of the 2-D solves [1].
+    resolution_3d : float, optional
+        Mesh density factor of the 3-D solves [1]; default `resolution`.
 
     Returns
     -------
@@ -156,8 +159,9 @@ def reference_inductance(
         return {"inductance_per_turn2_H": gapped, "section_H": gapped, "ungapped_H": closed,
                 "depth_factor": 1.0}
     leg = leg_gap_for(core, stack)
-    factor = _gap_reluctance_3d(leg, gap_m, gap_kind, False, resolution) / _gap_reluctance_3d(
-        leg, gap_m, gap_kind, True, resolution
+    fine = resolution if resolution_3d is None else resolution_3d
+    factor = _gap_reluctance_3d(leg, gap_m, gap_kind, False, fine) / _gap_reluctance_3d(
+        leg, gap_m, gap_kind, True, fine
     )
     core_reluctance = 1.0 / closed
     gap_reluctance = 1.0 / gapped - core_reluctance

@@ -147,7 +147,7 @@ def solve_leg_gap(
     y_end = d2 if endless_depth else d2 + margin
     z_end = z_top + margin
 
-    fine = min(gap_m / 3.0, size / 10.0) / resolution
+    fine = min(gap_m / 2.0, size / 20.0) / resolution
     coarse = size / (4.0 * resolution)
     x = graded_axis([0.0, w2, x_win, x_out, x_end], [w2, x_win, x_out], fine, coarse, 1.5)
     y = graded_axis([0.0, d2, y_end], [] if endless_depth else [d2], fine, coarse, 1.5)

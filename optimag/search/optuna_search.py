@@ -211,6 +211,8 @@ class OptunaProblem:
         self._turn_cache: dict[tuple, np.ndarray] = {}
         self._winding_cache: dict[tuple, np.ndarray] = {}
         self._exhausted: set[tuple] = set()
+        # `_exhausted` holds for one `seen` set (one study); another study starts afresh.
+        self._exhausted_seen: set | None = None
 
     def _cores_within_size_limits(self) -> np.ndarray:
         """Catalogue cores that can meet the height, footprint and volume limits at all.
@@ -275,6 +277,8 @@ class OptunaProblem:
         if space.gap_grid_m is not None:
             trial.suggest_categorical(
                 "gap_mm", [float(g) for g in self.study.search.gap_grid_mm])
+        if len(space.gap_kinds) > 1:
+            trial.suggest_categorical("gap_kind", list(space.gap_kinds))
         if self.decoders:
             trial.suggest_float("turns_position", 0.0, 1.0)
             trial.suggest_float("winding_position", 0.0, 1.0)
@@ -326,6 +330,10 @@ class OptunaProblem:
             grid_mm = [float(g) for g in self.study.search.gap_grid_mm]
             gap_option = np.array([grid_mm.index(float(p["gap_mm"])) for p in params],
                                   dtype=np.int64)
+        if len(space.gap_kinds) > 1:
+            kind = np.array([space.gap_kinds.index(p["gap_kind"]) for p in params],
+                            dtype=np.int64)
+            gap_option = kind * space.n_gap_values + gap_option
         custom = catalogue_core < 0
         safe_core = np.where(custom, 0, catalogue_core)
         stack = np.where(custom, 1, np.minimum(stack, space.cores.max_stack[safe_core]))
@@ -444,6 +452,14 @@ class OptunaProblem:
         price = geometry.volume_price(
             g.material_volume_m3, self.custom.price_base, self.custom.price_per_cm3
         )
+        # Outer legs (E) or skirt (pot) from the outer length: what is left beside the
+        # gapped leg and the two windows.
+        outer_width = np.maximum(0.5 * (g.length_m - g.leg_width_m) - g.window_width_m, 0.0)
+        if self.custom.family == "pot":
+            r_in = 0.5 * g.leg_width_m + g.window_width_m
+            outer_area = np.pi * ((0.5 * g.length_m) ** 2 - r_in**2)
+        else:
+            outer_area = 2.0 * outer_width * g.leg_depth_m
         return model.CoreArrays(
             ids=np.asarray(ids, dtype=object), family=np.full(
                 n, model.FAMILY_CODES[self.custom.family], dtype=np.int8),
@@ -453,6 +469,7 @@ class OptunaProblem:
             leg_depth_m=g.leg_depth_m, bobbin_wall_m=np.full(n, self.custom.bobbin_wall_mm * 1e-3),
             length_m=g.length_m, width_m=g.width_m, height_m=g.height_m,
             price=np.asarray(price, dtype=float), max_stack=np.ones(n, dtype=np.int64),
+            outer_leg_width_m=outer_width, outer_leg_area_m2=outer_area,
         )
 
     def custom_records(self, table: TrialTable) -> dict[str, dict]:
@@ -507,6 +524,8 @@ class OptunaProblem:
         # Catalogue cores repeat from trial to trial: keep their admissible sets.
         cacheable = not row.is_custom[0]
         key = (core, stack, material, gap)
+        if self._exhausted_seen is not seen:
+            self._exhausted, self._exhausted_seen = set(), seen
         if cacheable and key in self._exhausted:
             return None
         turn_choices = self._turn_cache.get(key) if cacheable else None

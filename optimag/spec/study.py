@@ -147,6 +147,11 @@ class Search(_Section):
     parallel_max: Count = 1
     gap: Literal["solve", "grid"] = "solve"
     gap_grid_mm: tuple[PositiveNumber, ...] = ()
+    #: How a discrete gap may be made: "centre" (centre leg ground, outer legs touching)
+    #: and/or "spacer" (a spacer between the halves gaps every leg by its thickness).
+    gap_kinds: Annotated[
+        tuple[Literal["centre", "spacer"], ...], Field(min_length=1, max_length=2)
+    ] = ("centre",)
     cores: tuple[Name, ...] | None = None
     materials: tuple[Name, ...] | None = None
     wires: tuple[Name, ...] | None = None
@@ -191,7 +196,7 @@ class CatalogRef(_Section):
 class ModelChoices(_Section):
     """``[model]``: which interchangeable physics models to use."""
 
-    fringing: Literal["mclyman", "muhlethaler", "ideal"] = "mclyman"
+    fringing: Literal["leg_edges", "mclyman", "muhlethaler", "ideal"] = "leg_edges"
     thermal: Literal["faces", "convection", "mclyman", "ferrite_rth"] = "faces"
 
 

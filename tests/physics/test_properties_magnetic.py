@@ -2,6 +2,7 @@
 ranges must give finite results, and the gap solver must invert the gap models."""
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -54,14 +55,21 @@ def test_gap_for_inductance_inverts_every_model(
     window = window_ratio * side
     le = path_ratio * side
     gap = gap_share * min(window, side)
+    geometry = None
+    if fringing == "leg_edges":
+        gap *= mag.LEG_EDGES_MAX_GAP_RATIO
+        geometry = mag.GapGeometry(ae, window, side, side, yoke_thickness_m=0.3 * side)
     forward = {
         "ideal": lambda g: mag.gap_reluctance_ideal(g, ae),
         "mclyman": lambda g: mag.gap_reluctance_mclyman(g, ae, window),
         "muhlethaler": lambda g: mag.gap_reluctance_muhlethaler(g, side, side, window),
+        "leg_edges": lambda g: mag.gap_reluctance_leg_edges(g, geometry),
     }[fringing]
     core = mag.core_reluctance(le, ae, mu_r)
     inductance = mag.inductance(turns, core + forward(gap))
-    solved = mag.gap_for_inductance(turns, inductance, le, ae, mu_r, window, fringing=fringing)
+    solved = mag.gap_for_inductance(
+        turns, inductance, le, ae, mu_r, window, fringing=fringing, geometry=geometry
+    )
     assert np.isfinite(solved)
     reached = core + forward(solved)
     assert abs(reached / (turns**2 / inductance) - 1.0) <= 1e-10
@@ -113,3 +121,40 @@ def test_linear_circuit_and_bsat_finite(turns, current, reluctance, ae, temperat
     for value in values:
         assert np.isfinite(value)
     assert values[-1] >= 0.0
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    ae=areas,
+    window_ratio=window_to_side,
+    gap_share=st.floats(1e-5, 1.0, **finite),
+    round_leg=st.booleans(),
+    fringing=st.sampled_from(sorted(mag.GAP_RELUCTANCE_MODELS)),
+)
+def test_spacer_gap_solves_back_and_exceeds_the_centre_gap(
+    ae, window_ratio, gap_share, round_leg, fringing
+):
+    # A spacer puts the outer legs' gaps in series with the centre gap: for every model its
+    # reluctance is above the centre gap's alone, and the solver inverts it.
+    side = np.sqrt(ae)
+    window = window_ratio * side
+    width = 2.0 * side / np.sqrt(np.pi) if round_leg else side
+    common = {
+        "round_leg": round_leg, "window_width_m": 0.5 * side, "outer_leg_width_m": 0.4 * side,
+        "outer_area_m2": 0.9 * ae, "outer_legs": 1.0 if round_leg else 2.0,
+        "yoke_thickness_m": 0.3 * side,
+    }
+    centre = mag.GapGeometry(ae, window, width, width, spacer=False, **common)
+    spacer = mag.GapGeometry(ae, window, width, width, spacer=True, **common)
+    gap = gap_share * 0.45 * min(window, side)
+    one = mag.gap_reluctance(gap, ae, window, width, width, fringing, geometry=centre)
+    both = mag.gap_reluctance(gap, ae, window, width, width, fringing, geometry=spacer)
+    assert np.isfinite(both) and both > one > 0.0
+    target = 1.0 / both
+    le, mu_r = 5.0 * side, 2000.0
+    core = mag.core_reluctance(le, ae, mu_r)
+    solved = mag.gap_for_inductance(
+        1, 1.0 / (core + both), le, ae, mu_r, window, fringing=fringing, geometry=spacer
+    )
+    assert solved == pytest.approx(gap, rel=1e-7)
+    assert target > 0.0

@@ -183,7 +183,7 @@ def test_defaults_of_omitted_sections(tmp_path: Path) -> None:
         64,
         "solve",
     )
-    assert (study.model.fringing, study.model.thermal) == ("mclyman", "faces")
+    assert (study.model.fringing, study.model.thermal) == ("leg_edges", "faces")
     assert (study.cooling.mode, study.cooling.core_emissivity) == ("free_air", 0.9)
     assert study.cooling.winding_emissivity == 0.85
     assert (study.cost.labour_per_turn, study.cost.currency) == (0.02, "cu")
