@@ -510,6 +510,32 @@ def gap_geometry(
     )
 
 
+def window_permeance(
+    space: DesignSpace, core: np.ndarray, stack: np.ndarray, gap_option: np.ndarray,
+    gap: np.ndarray, r_core: np.ndarray, geometry: magnetic.GapGeometry,
+) -> np.ndarray:
+    """Permeance [H] of the winding window's own field (added as N² P_w to the inductance):
+    window length (both E windows: 2 x depth; pot: mean circumference), width and height
+    (a spacer lifts the yokes by its thickness), with the share of the MMF on the gapped
+    leg's side from the gap reluctances and half the core's."""
+    c = space.cores
+    spacer = space.gap_option_spacer(gap_option)
+    round_leg = c.family[core] == 1
+    width = c.window_width_m[core]
+    length = np.where(
+        round_leg, 2.0 * np.pi * (0.5 * c.leg_width_m[core] + 0.5 * width),
+        2.0 * c.leg_depth_m[core] * np.asarray(stack, dtype=float),
+    )
+    centre_only = dataclasses.replace(geometry, spacer=np.zeros_like(spacer))
+    model_name = space.requirements.fringing
+    r_centre = magnetic.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=centre_only)
+    r_all = magnetic.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=geometry)
+    share = (r_centre + 0.5 * r_core) / (r_core + r_all)
+    height = c.breadth_m[core] + np.where(spacer, gap, 0.0)
+    has_window = c.family[core] != 2
+    return np.where(has_window, magnetic.window_permeance(length, width, height, share), 0.0)
+
+
 @_quiet
 def magnetic_stage(
     space: DesignSpace,
@@ -540,18 +566,26 @@ def magnetic_stage(
     can_gap = gap_allowed(space, core, material)
 
     # Gap: solved for the target, stepped on the study's grid, or none.
+    r_core = magnetic.core_reluctance(le, ae, mu_i)
     if space.gap_grid_m is None:
-        solved = magnetic.gap_for_inductance(
-            n_turns, req.inductance_H, le, ae, mu_i, breadth,
-            fringing=req.fringing, geometry=geometry,
-        )
+        # The window's own permeance adds N² P_w, so the gap is solved for the rest; P_w
+        # depends a little on the gap (MMF shares): a few fixed-point passes.
+        gap = np.zeros_like(n_turns)
+        for _ in range(5):
+            p_window = window_permeance(space, core, stack, gap_option, gap, r_core, geometry)
+            wanted = req.inductance_H - n_turns * n_turns * p_window
+            solved = magnetic.gap_for_inductance(
+                n_turns, np.where(wanted > 0.0, wanted, np.nan), le, ae, mu_i, breadth,
+                fringing=req.fringing, geometry=geometry,
+            )
+            gap = np.where(can_gap, solved, 0.0)
+            gap = np.where(np.isnan(gap), 0.0, gap)
         gap = np.where(can_gap, solved, 0.0)
     else:
         gap = np.where(can_gap, space.gap_grid_m[space.gap_option_value(gap_option)], 0.0)
     unreachable = np.isnan(gap)
     gap = np.where(unreachable, 0.0, gap)
 
-    r_core = magnetic.core_reluctance(le, ae, mu_i)
     r_gap = magnetic.gap_reluctance(
         gap, ae, breadth, geometry.leg_width_m, geometry.leg_depth_m, model=req.fringing,
         geometry=geometry,
@@ -561,7 +595,11 @@ def magnetic_stage(
         n_turns, 0.0, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
         m.rolloff_c[material],
     )
-    inductance0 = np.where(powder, powder_l0, magnetic.inductance(n_turns, r_core + r_gap))
+    p_window = window_permeance(space, core, stack, gap_option, gap, r_core, geometry)
+    inductance0 = np.where(
+        powder, powder_l0,
+        magnetic.inductance(n_turns, r_core + r_gap) + n_turns * n_turns * p_window,
+    )
 
     relative_error = np.abs(inductance0 / req.inductance_H - 1.0)
     tolerance = max(req.tolerance, 1e-9)
@@ -1322,7 +1360,12 @@ def inductance_curve(
             metrics["gap_m"], ae[:, 0], c.breadth_m[core], geometry.leg_width_m,
             geometry.leg_depth_m, model=req.fringing, geometry=geometry,
         )[:, None]
-        saturated = magnetic.inductance(n_turns, magnetic.core_reluctance(le, ae, 1.0) + r_gap)
+        r_air = magnetic.core_reluctance(le, ae, 1.0)
+        p_window = window_permeance(
+            space, core, candidates.stack, candidates.gap_option, metrics["gap_m"], r_air[:, 0],
+            geometry,
+        )[:, None]
+        saturated = magnetic.inductance(n_turns, r_air + r_gap) + n_turns**2 * p_window
     ferrite = np.where(current <= current_at_bsat, l0, saturated)
     return np.where((m.kind[material] == 1)[:, None], powder, ferrite)
 

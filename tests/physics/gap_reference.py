@@ -21,7 +21,9 @@ def reference_rows() -> list[dict[str, str]]:
         return list(csv.DictReader(handle))
 
 
-def model_inductance(row: dict[str, str], model: str, face_from_ae: bool = False) -> float:
+def model_inductance(
+    row: dict[str, str], model: str, face_from_ae: bool = False, window: bool = False
+) -> float:
     """L/N² [H] of a table row's core and gap by a gap model and the catalogue's le, Ae.
 
     ``face_from_ae`` takes the catalogue Ae as the gap face (the behaviour before the gapped
@@ -56,13 +58,37 @@ def model_inductance(row: dict[str, str], model: str, face_from_ae: bool = False
         r_gap = magnetic.gap_reluctance(gap, face, geometry.winding_length_m, width, depth,
                                         model, geometry=geometry)
     r_core = number["le_mm"] * 1e-3 / (MU0 * number["mu_r"] * ae)
-    return float(1.0 / (r_core + r_gap))
+    if not window:
+        return float(1.0 / (r_core + r_gap))
+    return float(1.0 / (r_core + r_gap) + magnetic.window_permeance(
+        *window_dimensions(geometry, row["gap_kind"] == "spacer", gap),
+        centre_share(geometry, gap, model, r_core),
+    ))
 
 
-def relative_errors(model: str, face_from_ae: bool = False) -> np.ndarray:
+def window_dimensions(geometry, spacer: bool, gap: float) -> tuple[float, float, float]:
+    width = float(geometry.window_width_m)
+    if geometry.round_leg:
+        length = 2.0 * math.pi * (0.5 * float(geometry.leg_width_m) + 0.5 * width)
+    else:
+        length = 2.0 * float(geometry.leg_depth_m)
+    return length, width, float(geometry.winding_length_m) + (gap if spacer else 0.0)
+
+
+def centre_share(geometry, gap: float, model: str, r_core: float) -> float:
+    centre_only = magnetic.GapGeometry(**{**vars(geometry), "spacer": False})
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityRangeWarning)
+        r_centre = float(magnetic.gap_reluctance(gap, 0, 0, 0, 0, model, geometry=centre_only))
+        r_all = float(magnetic.gap_reluctance(gap, 0, 0, 0, 0, model, geometry=geometry))
+    total = r_core + r_all
+    return (r_centre + 0.5 * r_core) / total
+
+
+def relative_errors(model: str, face_from_ae: bool = False, window: bool = False) -> np.ndarray:
     rows = reference_rows()
     return np.array([
-        model_inductance(row, model, face_from_ae)
+        model_inductance(row, model, face_from_ae, window)
         / (float(row["inductance_per_turn2_nH"]) * 1e-9) - 1.0
         for row in rows
     ])
