@@ -514,7 +514,8 @@ def window_permeance(
     space: DesignSpace, core: np.ndarray, stack: np.ndarray, gap_option: np.ndarray,
     gap: np.ndarray, r_core: np.ndarray, geometry: magnetic.GapGeometry,
 ) -> np.ndarray:
-    """Permeance [H] of the winding window's own field (added as N² P_w to the inductance):
+    """Permeance [H] of the winding window's own field (added as N² P_w to the inductance;
+    0 with the "ideal" gap model):
     window length (both E windows: 2 x depth; pot: mean circumference), width and height
     (a spacer lifts the yokes by its thickness), with the share of the MMF on the gapped
     leg's side from the gap reluctances and half the core's."""
@@ -532,7 +533,8 @@ def window_permeance(
     r_all = magnetic.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=geometry)
     share = (r_centre + 0.5 * r_core) / (r_core + r_all)
     height = c.breadth_m[core] + np.where(spacer, gap, 0.0)
-    has_window = c.family[core] != 2
+    # "ideal" keeps every line of flux in the core and the gap's face: no window field.
+    has_window = (c.family[core] != 2) & (model_name != "ideal")
     return np.where(has_window, magnetic.window_permeance(length, width, height, share), 0.0)
 
 

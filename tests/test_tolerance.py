@@ -91,10 +91,12 @@ def spec_with(**spreads) -> ToleranceSpec:
 
 
 def ideal_gap_for(space, inductance_H: float) -> float:
-    """Gap [m] at which N^2 / (R_core + R_gap) equals ``inductance_H`` (ideal gap)."""
+    """Gap [m] at which N^2 / (R_core + R_gap) equals ``inductance_H`` (ideal gap in the
+    gapped leg's own face, the E core's centre leg width x depth)."""
     c, m = space.cores, space.materials
     ae, le, mu = c.ae_m2[0], c.le_m[0], m.mu_i[0]
-    return MU_0 * ae * 30**2 / inductance_H - le / mu
+    face = c.leg_width_m[0] * c.leg_depth_m[0]
+    return MU_0 * face * (30**2 / inductance_H - le / (MU_0 * mu * ae))
 
 
 def test_gap_scatter_matches_closed_form_probability(tmp_path):
