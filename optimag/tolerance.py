@@ -451,14 +451,24 @@ def corner_violations(
     return _corners(space, designs, gap_m, spec)[0]
 
 
+def worst_corner_violations(
+    space: model.DesignSpace, designs: model.Candidates, gap_m: np.ndarray,
+    spec: ToleranceSpec,
+) -> np.ndarray:
+    """Each constraint's largest violation over all the constraints' worst corners, shape
+    (n, C): a design meets every limit at every corner exactly when a row is all <= 0.
+    The optuna search tells these to the sampler in a robust search."""
+    if len(designs) == 0:
+        return np.zeros((0, len(model.CONSTRAINTS)))
+    return _corners(space, designs, gap_m, spec)[1]
+
+
 def robust_feasible(
     space: model.DesignSpace, designs: model.Candidates, gap_m: np.ndarray,
     spec: ToleranceSpec,
 ) -> np.ndarray:
     """True where a design meets every limit at every constraint's worst corner."""
-    if len(designs) == 0:
-        return np.zeros(0, dtype=bool)
-    return _corners(space, designs, gap_m, spec)[1]
+    return (worst_corner_violations(space, designs, gap_m, spec) <= 0).all(axis=1)
 
 
 def _corners(space, designs, gap_m, spec):
@@ -489,5 +499,4 @@ def _corners(space, designs, gap_m, spec):
         _deviations_from_unit(spreads, corner_design, corner_unit, ambient),
     )).reshape(n_c, n, n_c)
     own = np.stack([at_corner[c, :, c] for c in range(n_c)], axis=1)
-    every = (at_corner <= 0).all(axis=(0, 2))
-    return own, every
+    return own, at_corner.max(axis=0)

@@ -276,15 +276,21 @@ def test_robust_front_is_feasible_at_every_corner(tmp_path):
     assert counts["feasible"] < nominal.record["counts"]["feasible"]
 
 
-def test_robust_search_needs_the_exhaustive_strategy(tmp_path):
-    from optimag.errors import InputError
+@pytest.mark.slow
+def test_robust_optuna_front_is_feasible_at_every_corner(tmp_path):
+    from optimag.search.run import explore
     from tests.search.conftest import write_tiny_study
 
     path = write_tiny_study(tmp_path)
-    path.write_text(path.read_text().replace(
-        "[search]\n", '[search]\nrobust = true\nstrategy = "optuna"\n'))
-    with pytest.raises(InputError, match="robust"):
-        load_study(path)
+    path.write_text(path.read_text().replace("[search]\n", "[search]\nrobust = true\n")
+                    + ROBUST_EXTRA)
+    result = explore(path, strategy="optuna", trials=256, seed=3,
+                     storage=f"sqlite:///{tmp_path / 'trials.db'}")
+    assert len(result.pareto) > 0
+    front, metrics = result.front_candidates, result.front_metrics
+    assert tolerance.robust_feasible(
+        result.space, front, metrics["gap_m"], result.study.tolerance
+    ).all()
 
 
 @pytest.mark.slow

@@ -53,7 +53,7 @@ import numpy as np
 import optuna
 from optuna.trial import TrialState
 
-from optimag import __version__, model
+from optimag import __version__, model, tolerance
 from optimag.errors import InputError, Problem, StorageError
 from optimag.search import custom_core as geometry
 from optimag.search.exhaustive import CANDIDATE_FIELDS, NEAR_MISS_COUNT, ExhaustiveOutcome
@@ -604,6 +604,15 @@ class OptunaProblem:
         metrics = model.evaluate(space, candidates)
         objectives = model.objective_matrix(metrics, self.objectives)
         violations = model.violations_matrix(metrics)
+        if self.study.search.robust:
+            # Robust search: a nominally feasible design is told its worst violation over
+            # every tolerance corner, so only designs meeting every limit at every corner
+            # count as feasible.
+            rows = np.flatnonzero(metrics["feasible"])
+            if rows.size:
+                violations[rows] = np.maximum(violations[rows], tolerance.worst_corner_violations(
+                    space, candidates.take(rows), metrics["gap_m"][rows], self.study.tolerance
+                ))
         # Optuna refuses NaN and infinite objectives: a thermal runaway has no finite loss
         # figure, and its constraint already marks it infeasible.
         objectives = np.where(np.isfinite(objectives), objectives, np.finfo(float).max / 1e6)

@@ -543,10 +543,6 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
                 )
             )
 
-    if search and search.robust and search.strategy != "exhaustive":
-        faults.append(("search.robust", "the robust search (tolerance corners inside the "
-                       "search) runs with strategy = \"exhaustive\""))
-
     if points and converter:
         for index, point in enumerate(points):
             field = f"operating_points[{index}].output_V"
