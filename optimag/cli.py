@@ -9,6 +9,7 @@ import time
 from pathlib import Path
 
 from optimag.errors import InputError, Problem, RunFolderError, StorageError
+from optimag.ranges import BATCH, SEED, TRIALS
 
 
 def _print_problems(problems: list[Problem]) -> None:
@@ -216,31 +217,46 @@ def build_parser() -> argparse.ArgumentParser:
                          help="short-list length (default 20)")
     explore.add_argument("--strategy", choices=["exhaustive", "optuna"],
                          help="override the study's search strategy")
-    explore.add_argument("--trials", type=_positive_int, help="optuna: number of trials")
-    explore.add_argument("--seed", type=int, help="optuna: sampler seed")
+    explore.add_argument("--trials", type=_trials, help="optuna: number of trials")
+    explore.add_argument("--seed", type=_seed, help=f"optuna: sampler seed, 0 to {SEED[1]}")
     explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")
     worker = commands.add_parser(
         "worker", help="add trials to an optuna study kept in a shared storage")
     worker.add_argument("--storage", required=True, help="SQLAlchemy URL of the storage")
     worker.add_argument("--study", required=True, help="name of the optuna study")
     worker.add_argument("--study-file", help="study .toml (default: the text kept in storage)")
-    worker.add_argument("--trials", type=_positive_int,
+    worker.add_argument("--trials", type=_trials,
                         help="stop when the study has this many complete trials "
                              "(default: the target of the run that created it)")
-    worker.add_argument("--batch-size", type=_positive_int, help="trials asked at once")
+    worker.add_argument("--batch-size", type=_batch, help="trials asked at once")
     report = commands.add_parser("report", help="rebuild report.html of a run folder")
     report.add_argument("run_dir", help="a run folder written by explore")
     return parser
 
 
-def _positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"{value} must be at least 1")
-    return value
+def _whole_in(low: int, high: int):
+    """An argparse type: a whole number within [low, high]."""
+
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+        if not low <= value <= high:
+            shown = text if len(text) <= 24 else f"{text[:10]}...({len(text)} digits)"
+            raise argparse.ArgumentTypeError(
+                f"{shown} is out of range; expected {low} to {high}"
+            )
+        return value
+
+    return parse
+
+
+# Bounds shared with the study file's [search] keys.
+_positive_int = _whole_in(1, 10**9)
+_trials = _whole_in(*TRIALS)
+_seed = _whole_in(*SEED)
+_batch = _whole_in(*BATCH)
 
 
 def main(argv: list[str] | None = None) -> int:

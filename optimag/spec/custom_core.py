@@ -34,8 +34,17 @@ from pydantic import (
     model_validator,
 )
 
-PositiveNumber = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0)]
-NonNegative = Annotated[float, Strict(), AllowInfNan(False), Field(ge=0)]
+from optimag.ranges import BOBBIN_WALL_MM, CUSTOM_DIMENSION_MM, CUSTOM_STEP_MM, MONEY
+
+DIMENSION_MM = CUSTOM_DIMENSION_MM
+STEP_MM = CUSTOM_STEP_MM
+WALL_MM = BOBBIN_WALL_MM
+
+LengthMM = Annotated[float, Strict(), AllowInfNan(False), Field(ge=DIMENSION_MM[0],
+                                                                le=DIMENSION_MM[1])]
+StepMM = Annotated[float, Strict(), AllowInfNan(False), Field(ge=STEP_MM[0], le=STEP_MM[1])]
+Money = Annotated[float, Strict(), AllowInfNan(False), Field(ge=MONEY[0], le=MONEY[1])]
+WallMM = Annotated[float, Strict(), AllowInfNan(False), Field(ge=WALL_MM[0], le=WALL_MM[1])]
 
 #: Smallest window side as a fraction of the largest centre-leg width (or post
 #: diameter); mirrors `optimag.search.custom_core.MIN_WINDOW_TO_LEG_RATIO`, below which the
@@ -68,12 +77,12 @@ class CustomCore(BaseModel):
     base_thickness_mm: Range | None = None
     #: Bobbin wall between leg and winding; 0.8 mm is a usual moulded-bobbin wall
     #: (common practice, no source).
-    bobbin_wall_mm: NonNegative = 0.8
-    price_base: NonNegative
-    price_per_cm3: NonNegative
-    max_height_mm: PositiveNumber | None = None
+    bobbin_wall_mm: WallMM = 0.8
+    price_base: Money
+    price_per_cm3: Money
+    max_height_mm: LengthMM | None = None
     #: Dimensions are drawn on this grid (tool and drawing resolution).
-    step_mm: PositiveNumber = 0.1
+    step_mm: StepMM = 0.1
     #: Search the catalogue's cores as well, so the report can compare the two.
     include_catalogue_cores: Annotated[bool, Strict()] = True
 
@@ -90,9 +99,19 @@ class CustomCore(BaseModel):
             isinstance(v, bool) or not isinstance(v, int | float) for v in value
         ):
             raise ValueError("expected a [low, high] pair of numbers in mm")
+        if any(isinstance(v, int) and abs(v) > 10**18 for v in value):
+            raise ValueError(
+                f"must lie within {DIMENSION_MM[0]:g} to {DIMENSION_MM[1]:g} mm; got a "
+                "number too large to be a size"
+            )
         low, high = float(value[0]), float(value[1])
         if not (0 < low <= high < float("inf")):
             raise ValueError(f"needs 0 < low <= high (finite); got [{low:g}, {high:g}]")
+        if not (DIMENSION_MM[0] <= low and high <= DIMENSION_MM[1]):
+            raise ValueError(
+                f"must lie within {DIMENSION_MM[0]:g} to {DIMENSION_MM[1]:g} mm; got "
+                f"[{low:g}, {high:g}]"
+            )
         return (low, high)
 
     @model_validator(mode="after")

@@ -21,8 +21,9 @@ import re
 import tomllib
 from collections.abc import Mapping
 from pathlib import Path
-from typing import Annotated, Any, Literal
+from typing import Annotated, Any, Literal, get_args
 
+import annotated_types
 import numpy as np
 from pydantic import (
     AllowInfNan,
@@ -37,22 +38,68 @@ from pydantic import (
     field_validator,
     model_validator,
 )
+from pydantic.fields import FieldInfo
 
 from optimag.errors import InputError, Problem
+from optimag.ranges import (
+    BATCH,
+    CURRENT_A,
+    FOOTPRINT_MM2,
+    FREQUENCY_KHZ,
+    GAP_GRID_ENTRIES,
+    GAP_MM,
+    HEIGHT_MM,
+    INDUCTANCE_UH,
+    LOSS_W,
+    MASS_G,
+    MONEY,
+    PARALLEL,
+    RIPPLE_FRACTION,
+    SEED,
+    STACK,
+    TEMPERATURE_C,
+    TITLE_CHARACTERS,
+    TRIALS,
+    TURNS,
+    VOLTAGE_V,
+    VOLUME_CM3,
+)
 from optimag.spec.custom_core import CustomCore
 from optimag.spec.tolerance import ToleranceSpec
 from optimag.spec.waveform import ccm_ripple_inductance
 
 # Strict numbers: TOML already types its values, so "12" must stay an error rather than
-# be coerced, and nan/inf (legal TOML) are rejected.
-Number = Annotated[float, Strict(), AllowInfNan(False)]
-PositiveNumber = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0)]
+# be coerced, and nan/inf (legal TOML) are rejected. Every number also has a plausible
+# range (`optimag.ranges`, listed in studies/README.md): a value outside it is a typing
+# error, and the extremes TOML allows (1e-300, 1e300, 2**63 - 1) would overflow the model
+# or make the design space astronomically large.
+
+
+def _bounded(low: float, high: float) -> Any:
+    return Annotated[float, Strict(), AllowInfNan(False), Field(ge=low, le=high)]
+
+
+def _whole(low: int, high: int) -> Any:
+    return Annotated[int, Strict(), Field(ge=low, le=high)]
+
+
 Fraction = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=1)]
-RippleFraction = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=2)]
+RippleFraction = _bounded(*RIPPLE_FRACTION)
 Percent = Annotated[float, Strict(), AllowInfNan(False), Field(ge=0, le=50)]
-Celsius = Annotated[float, Strict(), AllowInfNan(False), Field(gt=-273.15)]
-Count = Annotated[int, Strict(), Field(ge=1)]
+Celsius = _bounded(*TEMPERATURE_C)
+Frequency = _bounded(*FREQUENCY_KHZ)
+Voltage = _bounded(*VOLTAGE_V)
+Current = _bounded(*CURRENT_A)
+InductanceUH = _bounded(*INDUCTANCE_UH)
+LengthMM = _bounded(*HEIGHT_MM)
+AreaMM2 = _bounded(*FOOTPRINT_MM2)
+LossW = _bounded(*LOSS_W)
+Money = _bounded(*MONEY)
+GapMM = _bounded(*GAP_MM)
+VolumeCM3 = _bounded(*VOLUME_CM3)
+MassG = _bounded(*MASS_G)
 Text = Annotated[str, Strict()]
+Title = Annotated[str, Strict(), StringConstraints(max_length=TITLE_CHARACTERS)]
 Name = Annotated[str, Strict(), StringConstraints(min_length=1, max_length=80)]
 Slug = Annotated[str, Strict(), StringConstraints(pattern=r"^[a-z0-9-]+$", max_length=64)]
 
@@ -72,30 +119,30 @@ class StudyInfo(_Section):
     """``[study]``: identity of the study."""
 
     name: Slug
-    title: Text
+    title: Title
 
 
 class Converter(_Section):
     """``[converter]``: topology and switching frequency."""
 
     topology: Literal["buck", "boost", "buck-boost"]
-    switching_frequency_kHz: PositiveNumber
+    switching_frequency_kHz: Frequency
 
 
 class OperatingPoint(_Section):
     """One ``[[operating_points]]`` entry."""
 
     name: Name
-    input_V: PositiveNumber
-    output_V: PositiveNumber
-    load_A: PositiveNumber
+    input_V: Voltage
+    output_V: Voltage
+    load_A: Current
     time_share: Fraction
 
 
 class Inductor(_Section):
     """``[inductor]``: the inductance requirement, given directly or by ripple."""
 
-    inductance_uH: PositiveNumber | None = None
+    inductance_uH: InductanceUH | None = None
     ripple_fraction: RippleFraction | None = None
     ripple_point: Name | None = None
     inductance_tolerance_pct: Percent = 10.0
@@ -118,13 +165,13 @@ class Limits(_Section):
 
     ambient_C: Celsius = 40.0
     max_temperature_C: Celsius = 100.0
-    max_height_mm: PositiveNumber | None = None
-    max_footprint_mm2: PositiveNumber | None = None
+    max_height_mm: LengthMM | None = None
+    max_footprint_mm2: AreaMM2 | None = None
     flux_margin: Fraction = 0.8
     max_fill_factor: Fraction = 0.5
-    max_loss_W: PositiveNumber | None = None
-    max_volume_cm3: PositiveNumber | None = None
-    max_mass_g: PositiveNumber | None = None
+    max_loss_W: LossW | None = None
+    max_volume_cm3: VolumeCM3 | None = None
+    max_mass_g: MassG | None = None
 
 
 Objective = Literal["volume", "loss", "cost", "mass"]
@@ -139,14 +186,14 @@ class Search(_Section):
         "loss",
         "cost",
     )
-    turns_min: Count = 1
-    turns_max: Count
-    stack_min: Count = 1
-    stack_max: Count = 1
-    parallel_min: Count = 1
-    parallel_max: Count = 1
+    turns_min: _whole(*TURNS) = 1
+    turns_max: _whole(*TURNS)
+    stack_min: _whole(*STACK) = 1
+    stack_max: _whole(*STACK) = 1
+    parallel_min: _whole(*PARALLEL) = 1
+    parallel_max: _whole(*PARALLEL) = 1
     gap: Literal["solve", "grid"] = "solve"
-    gap_grid_mm: tuple[PositiveNumber, ...] = ()
+    gap_grid_mm: Annotated[tuple[GapMM, ...], Field(max_length=GAP_GRID_ENTRIES)] = ()
     #: How a discrete gap may be made: "centre" (centre leg ground, outer legs touching)
     #: and/or "spacer" (a spacer between the halves gaps every leg by its thickness).
     gap_kinds: Annotated[
@@ -156,10 +203,10 @@ class Search(_Section):
     materials: tuple[Name, ...] | None = None
     wires: tuple[Name, ...] | None = None
     harmonics: Annotated[int, Strict(), Field(ge=15, le=200)] = 25
-    trials: Count = 2000
-    seed: Annotated[int, Strict(), Field(ge=0)] = 0
+    trials: _whole(*TRIALS) = 2000
+    seed: _whole(*SEED) = 0
     sampler: Literal["nsga2", "tpe"] = "nsga2"
-    batch_size: Count = 64
+    batch_size: _whole(*BATCH) = 64
     #: Keep only designs that meet every limit at every tolerance corner ([tolerance]).
     robust: Annotated[bool, Strict()] = False
 
@@ -246,7 +293,7 @@ class Cooling(_Section):
 class Cost(_Section):
     """``[cost]``: labour cost and the currency label used in reports."""
 
-    labour_per_turn: Annotated[float, Strict(), AllowInfNan(False), Field(ge=0)] = 0.02
+    labour_per_turn: Money = 0.02
     currency: Annotated[str, Strict(), StringConstraints(min_length=1, max_length=10)] = "cu"
 
 
@@ -386,7 +433,8 @@ def load_study(path: str | os.PathLike[str]) -> Study:
     if file.is_dir():
         raise InputError([Problem(shown, None, "", "is a folder; expected a study .toml file")])
     try:
-        text = file.read_bytes().decode("utf-8")
+        # A byte-order mark, as some editors write it, is not part of the text.
+        text = file.read_bytes().decode("utf-8-sig")
     except UnicodeDecodeError as error:
         raise InputError(
             [Problem(shown, None, "", f"not UTF-8 text (byte {error.start}); save it as UTF-8")]
@@ -592,6 +640,35 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
                     )
                 )
 
+    if (
+        inductor
+        and inductor.inductance_uH is None
+        and inductor.ripple_fraction is not None
+        and points
+        and converter
+        and not faults
+    ):
+        needed_uH = 1e6 * ccm_ripple_inductance(
+            converter.topology,
+            np.array([p.input_V for p in points]),
+            np.array([p.output_V for p in points]),
+            np.array([p.load_A for p in points]),
+            converter.switching_frequency_kHz * 1e3,
+            inductor.ripple_fraction,
+        )
+        if inductor.ripple_point is not None:
+            needed_uH = needed_uH[[p.name for p in points].index(inductor.ripple_point)]
+        needed = float(np.max(needed_uH))
+        low, high = INDUCTANCE_UH
+        if not low <= needed <= high:
+            faults.append(
+                (
+                    "inductor.ripple_fraction",
+                    f"this ripple fraction needs {needed:.3g} uH, outside the plausible "
+                    f"range {low:g} to {high:g} uH; check the voltages, load and frequency",
+                )
+            )
+
     if limits and not limits.max_temperature_C > limits.ambient_C:
         faults.append(
             (
@@ -694,8 +771,15 @@ def _translate(
         if item["type"] == "extra_forbidden":
             faults.append((field, _unknown_key(str(loc[-1]), prefix, model)))
         else:
-            faults.append((field, _describe(item, field)))
+            message = _describe(item, field)
+            bounds = field_range(model, str(loc[0])) if loc else None
+            if item["type"] in _BOUND_ERRORS and bounds is not None:
+                message += f" (plausible range {_number(bounds[0])} to {_number(bounds[1])})"
+            faults.append((field, message))
     return faults
+
+
+_BOUND_ERRORS = ("greater_than", "greater_than_equal", "less_than", "less_than_equal")
 
 
 def _describe(item: Mapping[str, Any], field: str) -> str:
@@ -745,6 +829,28 @@ def _describe(item: Mapping[str, Any], field: str) -> str:
     return f"{item.get('msg', 'invalid value')}, got {_shown(got)}"
 
 
+def field_range(model: type[BaseModel], name: str) -> tuple[Any, Any] | None:
+    """The (low, high) bounds of a numeric key of a study section, or of the entries of a
+    list-valued key; None when the key has no two-sided range."""
+    field = model.model_fields.get(name)
+    if field is None:
+        return None
+    low = high = None
+    stack: list[Any] = [field.annotation, *field.metadata]
+    while stack:
+        item = stack.pop()
+        if isinstance(item, annotated_types.Ge | annotated_types.Gt):
+            low = item.ge if isinstance(item, annotated_types.Ge) else item.gt
+        elif isinstance(item, annotated_types.Le | annotated_types.Lt):
+            high = item.le if isinstance(item, annotated_types.Le) else item.lt
+        elif isinstance(item, FieldInfo):
+            stack.extend(item.metadata)
+        elif item is not None and not isinstance(item, type):
+            stack.extend(get_args(item))
+            stack.extend(getattr(item, "__metadata__", ()))
+    return None if low is None or high is None else (low, high)
+
+
 def _unknown_key(key: str, prefix: str, model: type[BaseModel]) -> str:
     known = list(model.model_fields)
     section = prefix.split("[")[0]
@@ -789,7 +895,8 @@ def _shown(value: Any) -> str:
             return "inf" if value > 0 else "-inf"
         return repr(value)
     if isinstance(value, int):
-        return str(value)
+        text = str(value)
+        return text if len(text) <= 24 else f"{text[:10]}...({len(text)} digits)"
     if isinstance(value, dict):
         return "a table"
     if isinstance(value, list | tuple):

@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 import pydantic
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 from optimag.errors import InputError
@@ -318,7 +318,7 @@ def valid_studies(draw: st.DrawFn) -> str:
     shares[-1] = 1.0 - math.fsum(shares[:-1])
     points = []
     for index, share in enumerate(shares):
-        low = draw(st.floats(0.1, 1000.0))
+        low = draw(st.floats(0.1, 200.0))
         ratio = draw(st.floats(1.01, 50.0))
         vi, vo = (low * ratio, low) if topology == "buck" else (low, low * ratio)
         load = draw(st.floats(1e-3, 1e3))
@@ -339,7 +339,15 @@ def test_valid_studies_give_finite_inductance_and_waveforms(text: str) -> None:
     folder = Path(__file__).resolve().parent
     # The catalogue must exist beside the study; this test folder has no "catalogue",
     # so point it at the test folder itself.
-    study = parse_study(text.replace('path = "catalogue"', 'path = "."'), folder / "virtual.toml")
+    try:
+        study = parse_study(
+            text.replace('path = "catalogue"', 'path = "."'), folder / "virtual.toml"
+        )
+    except InputError as error:
+        # Every number is in its range, but a ripple fraction can still ask for an
+        # inductance outside the plausible range; that is refused, not computed.
+        assert all("outside the plausible range" in p.message for p in error.problems), error
+        assume(False)
     assert np.isfinite(study.required_inductance_H) and study.required_inductance_H > 0
     for waveform in operating_waveforms(study, harmonics=15):
         assert np.all(np.isfinite([waveform.rms_A, waveform.peak_A, waveform.dc_A]))
