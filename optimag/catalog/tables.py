@@ -39,12 +39,15 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 
+from optimag import ranges as R
 from optimag.errors import InputError, Problem
 
 ColumnKind = Literal["text", "choice", "float", "int"]
 
 # Only plain decimal notation: float() would also accept "nan", "inf", "1_000" and "0x10".
 _NUMBER = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
+# A C0 control character or DEL in a cell: a binary or damaged file, never table text.
+_CONTROL = re.compile(r"[\x00-\x1f\x7f]")
 _NON_FINITE_WORDS = frozenset(
     {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 )
@@ -141,37 +144,19 @@ class Table:
         return tuple(column.name for column in self.columns)
 
 
-#: Largest positive figure a catalogue cell may hold. A magnetic part larger than a
-#: kilometre (1e6 mm, 1e12 mm^2, 1e18 mm^3) is a typing error, and such values would
-#: overflow the consistency checks (common practice, no source).
-PLAUSIBLE_UPPER = 1e18
-
-
-def _positive(
+def _ranged(
     name: str,
     description: str,
+    bounds: tuple[float, float],
     required_for: frozenset[str] | None = None,
     allowed_for: frozenset[str] | None = None,
+    kind: ColumnKind = "float",
 ) -> Column:
+    """A column whose values must lie within its plausible range (`optimag.ranges`,
+    bounds inclusive)."""
     return Column(
-        name, "float", description, lower=0.0, upper=PLAUSIBLE_UPPER, upper_inclusive=True,
-        required_for=required_for, allowed_for=allowed_for,
-    )
-
-
-def _non_negative(
-    name: str,
-    description: str,
-    required_for: frozenset[str] | None = None,
-    allowed_for: frozenset[str] | None = None,
-) -> Column:
-    return Column(
-        name,
-        "float",
-        description,
-        lower=0.0,
-        lower_inclusive=True,
-        required_for=required_for,
+        name, kind, description, lower=float(bounds[0]), upper=float(bounds[1]),
+        lower_inclusive=True, upper_inclusive=True, required_for=required_for,
         allowed_for=allowed_for,
     )
 
@@ -485,34 +470,51 @@ CORES = Table(
     columns=(
         Column("id", "text", "unique name of the core set"),
         Column("family", "choice", "shape family: E, pot or toroid"),
-        _positive("Ae_mm2", "effective cross-section of one set [mm²]"),
-        _positive("le_mm", "effective magnetic path length [mm]"),
-        _positive("Ve_mm3", "effective volume of one set [mm³]"),
-        _positive("Amin_mm2", "smallest cross-section along the path [mm²]"),
-        _positive("window_area_mm2", "winding window area [mm²]"),
-        _positive("window_breadth_mm", "winding length along the leg [mm]"),
-        _positive("window_width_mm", "radial depth available for the winding build [mm]"),
-        _positive("leg_width_mm", "centre-leg width / post diameter / ring thickness [mm]"),
-        _positive("leg_depth_mm", "centre-leg depth / post diameter / ring height [mm]"),
-        _positive("outer_leg_width_mm",
-                  "width of one outer leg (E) / radial thickness of the skirt (pot) [mm]",
-                  required_for=frozenset({"E", "pot"}), allowed_for=frozenset({"E", "pot"})),
-        _positive("outer_leg_area_mm2",
-                  "face area of all outer legs (E) / of the skirt (pot) at the gap [mm²]",
-                  required_for=frozenset({"E", "pot"}), allowed_for=frozenset({"E", "pot"})),
-        _non_negative("bobbin_wall_mm", "bobbin wall thickness, 0 for a toroid [mm]"),
-        _positive("length_mm", "outer length of one set on the board [mm]"),
-        _positive("width_mm", "outer width of one set on the board, stacking direction [mm]"),
-        _positive("height_mm", "outer height of one set on the board [mm]"),
-        _positive("surface_mm2", "outer surface of the bare set [mm²]"),
-        _positive("mass_g", "mass of one set at 4800 kg/m³ [g]"),
-        _non_negative("price", "price of one set [currency units]"),
-        Column(
-            "max_stack",
-            "int",
-            "largest number of sets stacked side by side [1]",
-            lower=1.0,
-            lower_inclusive=True,
+        _ranged("Ae_mm2", "effective cross-section of one set [mm²]", R.CORE_AREA_MM2),
+        _ranged("le_mm", "effective magnetic path length [mm]", R.CORE_LENGTH_MM),
+        _ranged("Ve_mm3", "effective volume of one set [mm³]", R.CORE_VOLUME_MM3),
+        _ranged("Amin_mm2", "smallest cross-section along the path [mm²]", R.CORE_AREA_MM2),
+        _ranged("window_area_mm2", "winding window area [mm²]", R.CORE_AREA_MM2),
+        _ranged("window_breadth_mm", "winding length along the leg [mm]", R.CORE_LENGTH_MM),
+        _ranged(
+            "window_width_mm",
+            "radial depth available for the winding build [mm]",
+            R.CORE_LENGTH_MM),
+        _ranged(
+            "leg_width_mm",
+            "centre-leg width / post diameter / ring thickness [mm]",
+            R.CORE_LENGTH_MM),
+        _ranged(
+            "leg_depth_mm",
+            "centre-leg depth / post diameter / ring height [mm]",
+            R.CORE_LENGTH_MM),
+        _ranged(
+            "outer_leg_width_mm",
+            "width of one outer leg (E) / radial thickness of the skirt (pot) [mm]",
+            R.CORE_LENGTH_MM,
+            required_for=frozenset({"E", "pot"}),
+            allowed_for=frozenset({"E", "pot"}),
+        ),
+        _ranged(
+            "outer_leg_area_mm2",
+            "face area of all outer legs (E) / of the skirt (pot) at the gap [mm²]",
+            R.CORE_AREA_MM2,
+            required_for=frozenset({"E", "pot"}),
+            allowed_for=frozenset({"E", "pot"}),
+        ),
+        _ranged("bobbin_wall_mm", "bobbin wall thickness, 0 for a toroid [mm]", R.BOBBIN_WALL_MM),
+        _ranged("length_mm", "outer length of one set on the board [mm]", R.CORE_LENGTH_MM),
+        _ranged(
+            "width_mm",
+            "outer width of one set on the board, stacking direction [mm]",
+            R.CORE_LENGTH_MM),
+        _ranged("height_mm", "outer height of one set on the board [mm]", R.CORE_LENGTH_MM),
+        _ranged("surface_mm2", "outer surface of the bare set [mm²]", R.CORE_SURFACE_MM2),
+        _ranged("mass_g", "mass of one set at 4800 kg/m³ [g]", R.CORE_MASS_G),
+        _ranged("price", "price of one set [currency units]", R.MONEY),
+        _ranged(
+            "max_stack", "largest number of sets stacked side by side [1]", R.MAX_STACK,
+            kind="int",
         ),
     ),
     row_checks=(
@@ -532,73 +534,56 @@ MATERIALS = Table(
     columns=(
         Column("id", "text", "unique name of the material"),
         Column("kind", "choice", "ferrite or powder"),
+        _ranged("mu_i", "initial relative permeability [1]", R.PERMEABILITY),
+        _ranged("bsat_25C_T", "saturation flux density at 25 °C [T]", R.SATURATION_T),
+        _ranged("bsat_100C_T", "saturation flux density at 100 °C [T]", R.SATURATION_T),
+        _ranged("steinmetz_k", "Steinmetz coefficient, f in Hz, B in T [W/m³]", R.STEINMETZ_K),
         Column(
-            "mu_i",
-            "float",
-            "initial relative permeability [1]",
-            lower=1.0,
-            upper=100000.0,
-            lower_inclusive=True,
-            upper_inclusive=True,
+            "steinmetz_alpha", "float", "Steinmetz frequency exponent [1]",
+            lower=R.STEINMETZ_ALPHA[0], upper=R.STEINMETZ_ALPHA[1],
         ),
         Column(
-            "bsat_25C_T",
-            "float",
-            "saturation flux density at 25 °C [T]",
-            lower=0.05,
-            upper=3.0,
-            lower_inclusive=True,
-            upper_inclusive=True,
+            "steinmetz_beta", "float", "Steinmetz flux-density exponent [1]",
+            lower=R.STEINMETZ_BETA[0], upper=R.STEINMETZ_BETA[1],
         ),
-        Column(
-            "bsat_100C_T",
-            "float",
-            "saturation flux density at 100 °C [T]",
-            lower=0.05,
-            upper=3.0,
-            lower_inclusive=True,
-            upper_inclusive=True,
-        ),
-        _positive("steinmetz_k", "Steinmetz coefficient, f in Hz, B in T [W/m³]"),
-        Column(
-            "steinmetz_alpha", "float", "Steinmetz frequency exponent [1]", lower=0.0, upper=3.0
-        ),
-        Column(
-            "steinmetz_beta", "float", "Steinmetz flux-density exponent [1]", lower=1.0, upper=4.0
-        ),
-        _positive("f_min_kHz", "lowest frequency of the Steinmetz fit [kHz]"),
-        _positive("f_max_kHz", "highest frequency of the Steinmetz fit [kHz]"),
+        _ranged("f_min_kHz", "lowest frequency of the Steinmetz fit [kHz]", R.FIT_FREQUENCY_KHZ),
+        _ranged("f_max_kHz", "highest frequency of the Steinmetz fit [kHz]", R.FIT_FREQUENCY_KHZ),
         Column(
             "b_max_T",
             "float",
             "highest peak flux density of the Steinmetz fit [T]",
-            lower=0.0,
-            upper=3.0,
+            lower=R.FIT_FLUX_T[0],
+            upper=R.FIT_FLUX_T[1],
             upper_inclusive=True,
         ),
-        Column("ct0", "float", "temperature factor constant term [1]"),
-        Column("ct1_per_C", "float", "temperature factor linear coefficient [1/°C]"),
-        Column("ct2_per_C2", "float", "temperature factor quadratic coefficient [1/°C²]"),
-        _positive(
+        _ranged("ct0", "temperature factor constant term [1]", R.CT0),
+        _ranged("ct1_per_C", "temperature factor linear coefficient [1/°C]", R.CT1_PER_C),
+        _ranged(
+            "ct2_per_C2", "temperature factor quadratic coefficient [1/°C²]", R.CT2_PER_C2
+        ),
+        _ranged(
             "rolloff_a",
             "roll-off fit constant a (powder only) [1]",
+            R.ROLLOFF_A,
             required_for=_POWDER,
             allowed_for=_POWDER,
         ),
-        _positive(
+        _ranged(
             "rolloff_b",
             "roll-off fit coefficient b, H in A/m (powder only) [(A/m)^-c]",
+            R.ROLLOFF_B,
             required_for=_POWDER,
             allowed_for=_POWDER,
         ),
-        _positive(
+        _ranged(
             "rolloff_c",
             "roll-off fit exponent c (powder only) [1]",
+            R.ROLLOFF_C,
             required_for=_POWDER,
             allowed_for=_POWDER,
         ),
-        _positive("density_kg_m3", "material density [kg/m³]"),
-        _non_negative("price_factor", "multiplier on the core-set price [1]"),
+        _ranged("density_kg_m3", "material density [kg/m³]", R.DENSITY_KG_M3),
+        _ranged("price_factor", "multiplier on the core-set price [1]", R.PRICE_FACTOR),
     ),
     row_checks=(
         _check_material_saturation,
@@ -615,54 +600,76 @@ WIRES = Table(
     columns=(
         Column("id", "text", "unique name of the wire"),
         Column("kind", "choice", "round, litz or foil"),
-        _positive(
+        _ranged(
             "bare_diameter_mm",
             "copper diameter of a round wire [mm]",
+            R.WIRE_DIAMETER_MM,
             required_for=_ROUND,
             allowed_for=_ROUND,
         ),
-        _positive(
+        _ranged(
             "outer_diameter_mm",
             "insulated diameter (round) or bundle diameter (litz) [mm]",
+            R.WIRE_DIAMETER_MM,
             required_for=_ROUND | _LITZ,
             allowed_for=_ROUND | _LITZ,
         ),
-        Column(
+        _ranged(
             "strands",
-            "int",
             "number of strands: 1 for round, >= 2 for litz [1]",
-            lower=1.0,
-            lower_inclusive=True,
+            R.STRANDS,
             required_for=_ROUND | _LITZ,
+            kind="int",
         ),
-        _positive(
+        _ranged(
             "strand_diameter_mm",
             "bare diameter of one litz strand [mm]",
+            R.WIRE_DIAMETER_MM,
             required_for=_LITZ,
             allowed_for=_LITZ,
         ),
-        _positive(
+        _ranged(
             "foil_thickness_mm",
             "copper thickness of a foil [mm]",
+            R.FOIL_THICKNESS_MM,
             required_for=_FOIL,
             allowed_for=_FOIL,
         ),
-        _positive(
-            "foil_width_mm", "copper width of a foil [mm]", required_for=_FOIL, allowed_for=_FOIL
+        _ranged(
+            "foil_width_mm",
+            "copper width of a foil [mm]",
+            R.FOIL_WIDTH_MM,
+            required_for=_FOIL,
+            allowed_for=_FOIL,
         ),
-        _non_negative(
+        _ranged(
             "insulation_mm",
             "interlayer insulation of a foil winding [mm]",
+            R.INSULATION_MM,
             required_for=_FOIL,
             allowed_for=_FOIL,
         ),
-        _non_negative("price_per_kg", "price of the wire [currency units/kg]"),
+        _ranged("price_per_kg", "price of the wire [currency units/kg]", R.MONEY),
     ),
     row_checks=(_check_wire_conductor,),
 )
 
 #: The three tables of a catalogue, in the order their bytes enter the content hash.
 TABLES: tuple[Table, ...] = (CORES, MATERIALS, WIRES)
+
+
+def range_table_markdown() -> str:
+    """The plausible range of every numeric catalogue column, as the Markdown table that
+    ``catalogs/README.md`` holds (a test keeps the two equal)."""
+    lines = ["| file | column | plausible range |", "|---|---|---|"]
+    for table in TABLES:
+        for column in table.columns:
+            if column.kind in ("float", "int"):
+                shown = column.range_text().replace("<=", "≤")
+                if column.kind == "int":
+                    shown += " (whole number)"
+                lines.append(f"| `{table.file_name}` | `{column.name}` | {shown} |")
+    return "\n".join(lines) + "\n"
 
 
 @dataclass(frozen=True, eq=False)
@@ -706,7 +713,10 @@ class _ParsedTable:
 
 
 def _row_label(table: Table, row_id: str | None, line: int) -> str:
-    return f"{table.noun} '{row_id}'" if row_id else f"{table.noun} on line {line}"
+    if not row_id:
+        return f"{table.noun} on line {line}"
+    shown = row_id if len(row_id) <= 40 else row_id[:37] + "..."
+    return f"{table.noun} '{shown}'"
 
 
 def _closest(name: str, candidates: Sequence[str]) -> str | None:
@@ -801,11 +811,34 @@ def _check_row(
 ) -> tuple[RowValues | None, list[Problem]]:
     """Validate one data row; return its typed values (None if anything is wrong)."""
     problems: list[Problem] = []
-    row_id = cells.get("id", "")
+    damaged = {name for name, text in cells.items() if _CONTROL.search(text)}
+    for name in sorted(damaged, key=list(cells).index):
+        code = ord(_CONTROL.search(cells[name]).group())
+        problems.append(
+            Problem(
+                file,
+                line,
+                name,
+                f"{table.noun} on line {line}: {name} contains the control character "
+                f"U+{code:04X}; the file is damaged or not a text table (re-export it as "
+                "CSV)",
+            )
+        )
+    row_id = "" if "id" in damaged else cells.get("id", "")
     label = _row_label(table, row_id, line)
 
-    if "id" in cells:
-        if not row_id:
+    if "id" in cells and "id" not in damaged:
+        if len(row_id) > R.ID_CHARACTERS:
+            problems.append(
+                Problem(
+                    file,
+                    line,
+                    "id",
+                    f"{label}: id has {len(row_id):,} characters; at most {R.ID_CHARACTERS} "
+                    "are allowed",
+                )
+            )
+        elif not row_id:
             problems.append(Problem(file, line, "id", f"{label}: id is empty; every row needs one"))
         elif row_id in seen_ids:
             problems.append(
@@ -821,7 +854,7 @@ def _check_row(
             seen_ids[row_id] = line
 
     selector_value: str | None = None
-    if table.selector in cells:
+    if table.selector in cells and table.selector not in damaged:
         text = cells[table.selector]
         if text in table.choices:
             selector_value = text
@@ -842,6 +875,9 @@ def _check_row(
     values: RowValues = {"id": row_id, table.selector: selector_value}
     for column in table.columns:
         if column.kind in ("text", "choice") or column.name not in cells:
+            continue
+        if column.name in damaged:
+            values[column.name] = None
             continue
         text = cells[column.name]
         if text == "":

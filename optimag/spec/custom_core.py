@@ -57,8 +57,9 @@ FAMILY_DIMENSIONS = {
     "pot": (("post_diameter_mm", "window_breadth_mm", "window_width_mm"),
             ("base_thickness_mm",)),
 }
-_ALL_DIMENSIONS = ("leg_width_mm", "leg_depth_mm", "post_diameter_mm", "window_breadth_mm",
-                   "window_width_mm", "base_thickness_mm")
+CUSTOM_DIMENSIONS = ("leg_width_mm", "leg_depth_mm", "post_diameter_mm",
+                     "window_breadth_mm", "window_width_mm", "base_thickness_mm")
+_ALL_DIMENSIONS = CUSTOM_DIMENSIONS
 
 Range = tuple[float, float]
 

@@ -44,6 +44,7 @@ from optimag.errors import InputError, Problem
 from optimag.ranges import (
     BATCH,
     CURRENT_A,
+    CUSTOM_DIMENSION_MM,
     FOOTPRINT_MM2,
     FREQUENCY_KHZ,
     GAP_GRID_ENTRIES,
@@ -64,7 +65,7 @@ from optimag.ranges import (
     VOLTAGE_V,
     VOLUME_CM3,
 )
-from optimag.spec.custom_core import CustomCore
+from optimag.spec.custom_core import CUSTOM_DIMENSIONS, CustomCore
 from optimag.spec.tolerance import ToleranceSpec
 from optimag.spec.waveform import ccm_ripple_inductance
 
@@ -832,23 +833,59 @@ def _describe(item: Mapping[str, Any], field: str) -> str:
 def field_range(model: type[BaseModel], name: str) -> tuple[Any, Any] | None:
     """The (low, high) bounds of a numeric key of a study section, or of the entries of a
     list-valued key; None when the key has no two-sided range."""
+    bounds = _bounds(model, name)
+    return None if bounds is None else (bounds[0], bounds[1])
+
+
+def _bounds(model: type[BaseModel], name: str) -> tuple[Any, Any, bool, bool] | None:
+    """(low, high, low included, high included) of a key, from its annotation."""
     field = model.model_fields.get(name)
     if field is None:
         return None
     low = high = None
+    low_in = high_in = True
     stack: list[Any] = [field.annotation, *field.metadata]
     while stack:
         item = stack.pop()
         if isinstance(item, annotated_types.Ge | annotated_types.Gt):
-            low = item.ge if isinstance(item, annotated_types.Ge) else item.gt
+            low_in = isinstance(item, annotated_types.Ge)
+            low = item.ge if low_in else item.gt
         elif isinstance(item, annotated_types.Le | annotated_types.Lt):
-            high = item.le if isinstance(item, annotated_types.Le) else item.lt
+            high_in = isinstance(item, annotated_types.Le)
+            high = item.le if high_in else item.lt
         elif isinstance(item, FieldInfo):
             stack.extend(item.metadata)
         elif item is not None and not isinstance(item, type):
             stack.extend(get_args(item))
             stack.extend(getattr(item, "__metadata__", ()))
-    return None if low is None or high is None else (low, high)
+    return None if low is None or high is None else (low, high, low_in, high_in)
+
+
+def range_table_markdown() -> str:
+    """The plausible range of every numeric study key, as the Markdown table that
+    ``studies/README.md`` holds (a test keeps the two equal). A list key's range applies
+    to each entry."""
+    lines = ["| table | key | plausible range |", "|---|---|---|"]
+    for section, model in _SECTION_MODELS.items():
+        header = f"[[{section}]]" if section == "operating_points" else f"[{section}]"
+        for name in model.model_fields:
+            bounds = _bounds(model, name)
+            if bounds is None:
+                continue
+            low, high, low_in, high_in = bounds
+            shown = (
+                f"{_number(low)} {'≤' if low_in else '<'} {name} "
+                f"{'≤' if high_in else '<'} {_number(high)}"
+            )
+            lines.append(f"| `{header}` | `{name}` | {shown} |")
+        if model is CustomCore:
+            low, high = CUSTOM_DIMENSION_MM
+            lines.extend(
+                f"| `{header}` | `{name}` | [low, high] with {_number(low)} ≤ low ≤ high ≤ "
+                f"{_number(high)} |"
+                for name in CUSTOM_DIMENSIONS
+            )
+    return "\n".join(lines) + "\n"
 
 
 def _unknown_key(key: str, prefix: str, model: type[BaseModel]) -> str:

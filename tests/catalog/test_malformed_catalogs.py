@@ -148,7 +148,7 @@ CASES = [
          "wires.csv", 2, "", ("wire 'awg-20'", "11 cells but the header has 10")),
     Case("negative_dimension", set_cell("cores.csv", "E-shape-20", "le_mm", "-5"),
          "cores.csv", 2, "le_mm", ("core 'E-shape-20'", "le_mm = -5 is out of range",
-                                   "0 < le_mm")),
+                                   "0.1 <= le_mm <= 1000")),
     Case("zero_dimension", set_cell("cores.csv", "pot-18", "window_breadth_mm", "0"),
          "cores.csv", 3, "window_breadth_mm", ("core 'pot-18'", "out of range")),
     Case("nan_text", set_cell("materials.csv", "fer-midf", "mu_i", "nan"),
@@ -262,6 +262,26 @@ CASES = [
          "wires.csv", None, "", ("table has no rows",)),
     Case("not_utf8", replace_file("materials.csv", b"id,kind\n\xb5-ferrite,ferrite\n"),
          "materials.csv", None, "", ("not UTF-8",)),
+    # Plausible ranges (optimag.ranges): absurd values are typing errors, not designs.
+    Case("absurd_core_length", set_cell("cores.csv", "E-shape-20", "length_mm", "1e18"),
+         "cores.csv", 2, "length_mm", ("length_mm = 1e+18 is out of range",
+                                       "0.1 <= length_mm <= 1000")),
+    Case("price_factor_near_float_max",
+         set_cell("materials.csv", "fer-midf", "price_factor", "1.7e308"),
+         "materials.csv", 2, "price_factor", ("price_factor = 1.7e+308 is out of range",)),
+    Case("stack_beyond_int64",
+         set_cell("cores.csv", "E-shape-20", "max_stack", "9223372036854775808"),
+         "cores.csv", 2, "max_stack", ("out of range", "max_stack <= 100")),
+    Case("strands_beyond_int64",
+         set_cell("wires.csv", "litz-100x40", "strands", "99999999999999999999999"),
+         "wires.csv", 3, "strands", ("out of range", "strands <= 100000")),
+    Case("temperature_factor_huge", set_cell("materials.csv", "fer-midf", "ct2_per_C2", "1e300"),
+         "materials.csv", 2, "ct2_per_C2", ("out of range",)),
+    # A NUL byte says the file is damaged; no near-miss suggestion for the damaged text.
+    Case("nul_in_family", set_cell("cores.csv", "pot-18", "family", "E\x00"),
+         "cores.csv", 3, "family", ("control character U+0000", "damaged")),
+    Case("overlong_id", set_cell("cores.csv", "pot-18", "id", "p" * 40_000),
+         "cores.csv", 3, "id", ("id has 40,000 characters; at most 100",)),
 ]  # fmt: skip
 
 
@@ -360,3 +380,18 @@ def test_two_faults_in_one_row_are_both_reported(base: Path) -> None:
 
 
 CASES_BY_NAME = {case.name: case for case in CASES}
+
+
+def test_nul_gets_no_suggestion(base: Path) -> None:
+    set_cell("cores.csv", "pot-18", "family", "E\x00")(base)
+    messages = [p.message for p in check_catalog(base)]
+    assert not any("did you mean" in m for m in messages), messages
+
+
+def test_integers_beyond_int64_do_not_overflow(base: Path) -> None:
+    # 2**63 does not fit the int64 columns; it must be a problem, not an OverflowError.
+    set_cell("cores.csv", "E-shape-20", "max_stack", str(2**63))(base)
+    set_cell("wires.csv", "awg-20", "strands", str(2**64))(base)
+    with pytest.raises(InputError) as caught:
+        load_catalog(base)
+    assert {p.field for p in caught.value.problems} == {"max_stack", "strands"}
