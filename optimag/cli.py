@@ -106,7 +106,8 @@ def _explore(args) -> int:
             result = optimag.explore(
                 study, catalog=catalog, strategy=strategy, trials=args.trials,
                 seed=args.seed, storage=storage, top=args.top, progress=report,
-                re_evaluate=args.re_evaluate,
+                re_evaluate=args.re_evaluate, force=args.force,
+                announce=lambda line: print(line, file=sys.stderr),
             )
         try:
             run_dir = optimag.write_run(result, out_dir, overwrite=args.overwrite)
@@ -217,6 +218,8 @@ def build_parser() -> argparse.ArgumentParser:
                          help="short-list length (default 20)")
     explore.add_argument("--strategy", choices=["exhaustive", "optuna"],
                          help="override the study's search strategy")
+    explore.add_argument("--force", action="store_true",
+                         help="exhaustive: search a space above the size or memory limit")
     explore.add_argument("--trials", type=_trials, help="optuna: number of trials")
     explore.add_argument("--seed", type=_seed, help=f"optuna: sampler seed, 0 to {SEED[1]}")
     explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")

@@ -1,14 +1,21 @@
 """Exhaustive search: every candidate of the design space, evaluated by factors.
 
-1. The magnetic grid (core, stack, material, turns, gap option) is evaluated at once and
-   its failures are counted for every winding they would have been paired with.
+The space is walked in blocks of (core, stack, turns) groups, so memory stays bounded
+whatever its size:
+
+1. For a block of groups, the magnetic grid (its groups x material x gap option) is
+   evaluated and its failures are counted for every winding they would have been paired
+   with.
 2. The winding layouts (core, stack, turns, wire, parallel) are evaluated only for the
-   (core, stack, turns) groups with a magnetic survivor; windings that do not fit are
-   counted for every magnetic survivor of their group; winding losses are computed for the
-   survivors only.
+   groups with a magnetic survivor, a slice of groups (and, for a large wire table, of
+   wires) at a time; windings that do not fit are counted for every magnetic survivor of
+   their group; winding losses are computed for the survivors only.
 3. Survivors of both are joined within their group and streamed in chunks through the
    loss-temperature stage; a running Pareto front and the elimination counts are all that
-   is kept, so memory does not grow with the size of the space.
+   is kept.
+
+`plan` sizes the blocks and chunks from a memory budget and estimates the candidate count
+and peak memory before anything is evaluated.
 """
 
 from __future__ import annotations
@@ -21,16 +28,36 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from optimag import model, tolerance
+from optimag.ranges import MEMORY_BUDGET_BYTES
 from optimag.search.pareto import RunningFront
 from optimag.spec.tolerance import ToleranceSpec
 
 CANDIDATE_FIELDS = tuple(f.name for f in dataclasses.fields(model.Candidates))
 
-#: Joined candidates per chunk of the final stage (bounds peak memory).
+#: Joined candidates per chunk of the final stage, at most (bounds peak memory).
 DEFAULT_CHUNK = 200_000
 
 #: Elimination-table name of designs that fail at a tolerance corner (robust search).
 ROBUST_CONSTRAINT = "tolerance_corners"
+
+#: Magnetic rows (group x material x gap option) per block of stage 1, at most.
+DEFAULT_MAGNETIC_BLOCK = 200_000
+
+# Bytes held per row while a stage runs (inputs, outputs and numpy temporaries), as
+# (constant, per operating point, per harmonic). Measured as the peak RSS
+# of each stage on 200,000 random rows of the example studies (3 points: magnetic 773,
+# winding 673 at 25 and 3,118 at 200 harmonics, all stages together 1,400 B/row), then
+# rounded up; the harmonic term assumes every row is a distinct AC case.
+_MAGNETIC_ROW_BYTES = (300, 200, 0)
+_WINDING_ROW_BYTES = (300, 100, 60)
+_FINAL_ROW_BYTES = (200, 450, 0)
+#: Process memory before the search: interpreter, numpy, pandas, pydantic [bytes].
+_BASE_BYTES = 150_000_000
+#: Catalogue tables, their model arrays and the group index, per core / material / wire
+#: row [bytes] (tests/benchmarks/memory_bounds.py measures a 1,000,000-core catalogue).
+_CATALOGUE_ROW_BYTES = 600
+#: Share of the memory budget the plan fills; the rest covers what the estimate misses.
+_PLANNED_SHARE = 0.75
 
 #: Infeasible candidates kept to show when nothing is feasible.
 NEAR_MISS_COUNT = 5
@@ -54,39 +81,140 @@ class ExhaustiveOutcome:
     nominal_front: RunningFront | None = None
 
 
+@dataclass(frozen=True)
+class SearchPlan:
+    """How an exhaustive search will walk its space, decided before it starts.
+
+    candidates : exact number of candidates in the space
+    magnetic_block : magnetic rows per stage-1 block
+    chunk : winding rows per stage-2 slice and joined rows per stage-3 chunk
+    peak_bytes : estimated peak memory of the process [bytes]
+    """
+
+    candidates: int
+    magnetic_block: int
+    chunk: int
+    peak_bytes: int
+
+    def describe(self) -> str:
+        """One line for the user: candidate count and estimated peak memory."""
+        return (
+            f"design space: {self.candidates:,} candidates; estimated peak memory "
+            f"{self.peak_bytes / 1e6:,.0f} MB"
+        )
+
+
+def _row_bytes(coefficients: tuple[int, int, int], n_points: int, n_harmonics: int) -> int:
+    constant, per_point, per_harmonic = coefficients
+    return constant + per_point * n_points + per_harmonic * n_harmonics
+
+
+def plan(
+    space: model.DesignSpace,
+    chunk_size: int = DEFAULT_CHUNK,
+    memory_budget: int = MEMORY_BUDGET_BYTES,
+) -> SearchPlan:
+    """Count the candidates of ``space`` and size the blocks and chunks so the search's
+    peak memory stays within ``memory_budget`` [bytes] (chunks never above
+    ``chunk_size``). Nothing is evaluated."""
+    n_points = len(space.operating.share)
+    n_harm = int(space.operating.harmonics_A.shape[1])
+    catalogue = _CATALOGUE_ROW_BYTES * (
+        len(space.cores.ids) + len(space.materials.ids) + len(space.wires.ids)
+    )
+    # Half the budget left after the fixed part goes to the stage-1 block (kept while its
+    # groups go through stages 2 and 3), half to one stage-2/3 chunk.
+    share = max(int(_PLANNED_SHARE * memory_budget - _BASE_BYTES - catalogue) // 2, 1)
+    mag_row = _row_bytes(_MAGNETIC_ROW_BYTES, n_points, n_harm)
+    late_row = max(
+        _row_bytes(_WINDING_ROW_BYTES, n_points, n_harm),
+        _row_bytes(_FINAL_ROW_BYTES, n_points, n_harm),
+    )
+    magnetic_block = int(max(1_000, min(DEFAULT_MAGNETIC_BLOCK, share // mag_row)))
+    chunk = int(max(1_000, min(chunk_size, share // late_row)))
+    # A block holds whole groups (materials x gap options rows each); a slice of one group
+    # holds at least one wire with every parallel count.
+    candidates = space_size(space)
+    windings = len(space.wires.ids) * len(space.parallels)
+    group_rows = len(space.materials.ids) * space.n_gap_options
+    magnetic_rows = min(max(magnetic_block, group_rows), candidates // max(windings, 1))
+    slice_rows = min(max(chunk, len(space.parallels)), candidates)
+    peak = _BASE_BYTES + catalogue + magnetic_rows * mag_row + slice_rows * late_row
+    return SearchPlan(
+        candidates=candidates, magnetic_block=magnetic_block, chunk=chunk,
+        peak_bytes=int(peak),
+    )
+
+
 def _grid(*axes: np.ndarray) -> list[np.ndarray]:
     return [a.ravel() for a in np.meshgrid(*axes, indexing="ij")]
 
 
-def magnetic_grid(space: model.DesignSpace) -> dict[str, np.ndarray]:
-    """Flat (core, stack, material, turns, gap_option) combinations that exist: stacks up
-    to each core's maximum, and gap options only where a gap can be cut."""
-    n_core = len(space.cores.ids)
-    n_mat = len(space.materials.ids)
-    core, stack, material, turns, gap_option = _grid(
-        np.arange(n_core), space.stacks, np.arange(n_mat), space.turns,
+class _Groups:
+    """The (core, stack, turns) groups of a space in order (core, then stack, then turns):
+    group g of core c is stack ``stacks[i // n_turns]`` and turns ``turns[i % n_turns]``
+    with ``i = g - start[c]``; only stacks up to the core's maximum exist."""
+
+    def __init__(self, space: model.DesignSpace):
+        self.space = space
+        self.n_turns = len(space.turns)
+        # space.stacks is a consecutive ascending range, so a core's allowed stacks are a
+        # prefix of it.
+        self.stacks_per_core = np.searchsorted(
+            space.stacks, space.cores.max_stack, side="right"
+        ).astype(np.int64)
+        per_core = self.stacks_per_core * self.n_turns
+        self.end = np.cumsum(per_core)
+        self.start = self.end - per_core
+        self.count = int(self.end[-1]) if len(self.end) else 0
+
+    def decode(self, first: int, stop: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(core, stack, turns) of groups ``first`` to ``stop - 1``."""
+        g = np.arange(first, stop, dtype=np.int64)
+        core = np.searchsorted(self.end, g, side="right")
+        within = g - self.start[core]
+        return (core, self.space.stacks[within // self.n_turns],
+                self.space.turns[within % self.n_turns])
+
+
+def _magnetic_rows(space: model.DesignSpace, core, stack, turns) -> dict[str, np.ndarray]:
+    """Magnetic rows of the given groups (group-major, then material, then gap option):
+    gap options only where a gap can be cut. ``group`` is the row's position in the
+    given group arrays."""
+    group, material, gap_option = _grid(
+        np.arange(len(core)), np.arange(len(space.materials.ids)),
         np.arange(space.n_gap_options),
     )
-    keep = stack <= space.cores.max_stack[core]
-    keep &= (gap_option == 0) | model.gap_allowed(space, core, material)
+    keep = (gap_option == 0) | model.gap_allowed(space, core[group], material)
+    group = group[keep]
     return {
-        "core": core[keep], "stack": stack[keep], "material": material[keep],
-        "turns": turns[keep], "gap_option": gap_option[keep],
+        "core": core[group], "stack": stack[group], "material": material[keep],
+        "turns": turns[group], "gap_option": gap_option[keep], "group": group,
     }
 
 
-def _group_key(space: model.DesignSpace, core, stack, turns) -> np.ndarray:
-    n_stack = len(space.stacks)
-    n_turns = len(space.turns)
-    stack_pos = stack - space.stacks[0]
-    turns_pos = turns - space.turns[0]
-    return (core * n_stack + stack_pos) * n_turns + turns_pos
+def magnetic_grid(space: model.DesignSpace) -> dict[str, np.ndarray]:
+    """Flat (core, stack, material, turns, gap_option) combinations that exist: stacks up
+    to each core's maximum, and gap options only where a gap can be cut. The whole grid at
+    once: for tests and small spaces; the search walks it in blocks."""
+    groups = _Groups(space)
+    rows = _magnetic_rows(space, *groups.decode(0, groups.count))
+    del rows["group"]
+    return rows
 
 
 def space_size(space: model.DesignSpace) -> int:
-    """Number of candidates in the design space (what `explore_exhaustive` covers)."""
-    mag = magnetic_grid(space)
-    return int(len(mag["core"]) * len(space.wires.ids) * len(space.parallels))
+    """Number of candidates in the design space (what `explore_exhaustive` covers), counted
+    without building the grid (exact, in Python integers)."""
+    groups = _Groups(space)
+    ferrite = int(np.count_nonzero(space.materials.kind == 0))
+    others = len(space.materials.ids) - ferrite
+    gappable = space.cores.family != model.FAMILY_CODES["toroid"]
+    options = np.where(gappable, ferrite * space.n_gap_options + others,
+                       len(space.materials.ids)).astype(np.int64)
+    magnetic = sum(int(n) * int(o) for n, o in zip(groups.stacks_per_core.tolist(),
+                                                   options.tolist(), strict=True))
+    return magnetic * groups.n_turns * len(space.wires.ids) * len(space.parallels)
 
 
 def explore_exhaustive(
@@ -95,6 +223,7 @@ def explore_exhaustive(
     chunk_size: int = DEFAULT_CHUNK,
     progress: Callable[[int, int], None] | None = None,
     robust: ToleranceSpec | None = None,
+    search_plan: SearchPlan | None = None,
 ) -> ExhaustiveOutcome:
     """Evaluate every candidate of ``space`` and keep the exact Pareto front over
     ``objectives`` (names of `model.OBJECTIVE_COLUMNS`).
@@ -104,11 +233,14 @@ def explore_exhaustive(
     those that do not are counted under ``tolerance_corners``, and the front of all
     nominally feasible candidates is kept beside it as ``nominal_front``.
 
+    ``search_plan`` (default `plan(space, chunk_size)`) sizes the blocks and chunks.
     ``progress(done, total)`` is called after each chunk with candidate counts. A
     KeyboardInterrupt stops the pass cleanly: the outcome then holds what was found so far
     and ``interrupted`` is set.
     """
     start = time.perf_counter()
+    walk = search_plan or plan(space, chunk_size)
+    chunk = walk.chunk
     eliminated = dict.fromkeys(model.CONSTRAINTS, 0)
     front = RunningFront(len(objectives))
     nominal_front = None
@@ -117,61 +249,74 @@ def explore_exhaustive(
         nominal_front = RunningFront(len(objectives))
     n_wire, n_par = len(space.wires.ids), len(space.parallels)
     windings_per_group = n_wire * n_par
+    # Wires per stage-2 slice: all of them unless one group's windings exceed a chunk.
+    wires_per_slice = max(1, min(n_wire, chunk // max(n_par, 1)))
+    wire_slices = [np.arange(lo, min(lo + wires_per_slice, n_wire), dtype=np.int64)
+                   for lo in range(0, n_wire, wires_per_slice)]
+    slice_windings = wires_per_slice * n_par
 
-    mag = magnetic_grid(space)
-    total = len(mag["core"]) * windings_per_group
+    groups = _Groups(space)
+    rows_per_group = max(1, len(space.materials.ids) * space.n_gap_options)
+    groups_per_block = max(1, walk.magnetic_block // rows_per_group)
+    total = walk.candidates
     done = 0
     near = _NearMisses()
+    near_magnetic = _MagneticNearMisses()
     interrupted = False
     feasible = 0
-    stage_sizes = {"magnetic": len(mag["core"])}
+    stage_sizes = {"magnetic": 0}
     try:
-        # Stage 1: magnetic grid.
-        mag_out = model.magnetic_stage(
-            space, mag["core"], mag["stack"], mag["material"], mag["turns"], mag["gap_option"]
-        )
-        mag_viol = np.stack(
-            [mag_out[f"violation_{c}"] for c in model.MAGNETIC_CONSTRAINTS], axis=1
-        )
-        mag_first = model.first_violated(mag_viol)
-        for index, name in enumerate(model.MAGNETIC_CONSTRAINTS):
-            eliminated[name] += int(np.count_nonzero(mag_first == index)) * windings_per_group
-        done += int(np.count_nonzero(mag_first >= 0)) * windings_per_group
-        mag_pass = np.flatnonzero(mag_first < 0)
-        if progress:
-            progress(done, total)
-
-        if mag_pass.size:
-            mag_group = _group_key(
-                space, mag["core"][mag_pass], mag["stack"][mag_pass], mag["turns"][mag_pass]
+        for first in range(0, groups.count, groups_per_block):
+            stop = min(first + groups_per_block, groups.count)
+            mag = _magnetic_rows(space, *groups.decode(first, stop))
+            # Stage 1: magnetic rows of this block of groups.
+            mag_out = model.magnetic_stage(
+                space, mag["core"], mag["stack"], mag["material"], mag["turns"],
+                mag["gap_option"],
             )
-            order = np.argsort(mag_group, kind="stable")
-            mag_pass, mag_group = mag_pass[order], mag_group[order]
-            groups, group_start, group_count = np.unique(
-                mag_group, return_index=True, return_counts=True
+            stage_sizes["magnetic"] += len(mag["core"])
+            mag_viol = np.stack(
+                [mag_out[f"violation_{c}"] for c in model.MAGNETIC_CONSTRAINTS], axis=1
             )
-            # Stage 2 and 3 per batch of groups, so the winding arrays stay small too.
-            for batch in _batches_of_groups(group_count, windings_per_group, chunk_size):
-                for joined in _process_group_batch(
-                    space, mag, mag_out, mag_pass, groups[batch], group_start[batch],
-                    group_count[batch], eliminated, chunk_size, stage_sizes,
-                ):
-                    candidates, metrics, n_processed = joined
-                    done += n_processed
-                    if candidates is not None:
-                        if robust is not None:
-                            _screen_corners(space, candidates, metrics, robust, objectives,
-                                            eliminated, nominal_front)
-                        ok = metrics["feasible"]
-                        feasible += int(np.count_nonzero(ok))
-                        if np.any(ok):
-                            front.offer(
-                                model.objective_matrix(metrics, objectives)[ok],
-                                {f: getattr(candidates, f)[ok] for f in CANDIDATE_FIELDS},
-                            )
-                        near.offer(candidates, metrics)
-                    if progress:
-                        progress(done, total)
+            mag_first = model.first_violated(mag_viol)
+            for index, name in enumerate(model.MAGNETIC_CONSTRAINTS):
+                eliminated[name] += int(np.count_nonzero(mag_first == index)) * (
+                    windings_per_group
+                )
+            done += int(np.count_nonzero(mag_first >= 0)) * windings_per_group
+            if near.candidates is None:
+                near_magnetic.offer(mag, mag_viol.max(axis=1))
+            mag_pass = np.flatnonzero(mag_first < 0)
+            if progress:
+                progress(done, total)
+            if not mag_pass.size:
+                continue
+            # Rows are group-major, so the survivors are sorted by group already.
+            block_groups, group_start, group_count = np.unique(
+                mag["group"][mag_pass], return_index=True, return_counts=True
+            )
+            for batch in _batches_of_groups(group_count, slice_windings, chunk):
+                for wires in wire_slices:
+                    for candidates, metrics, n_processed in _process_group_batch(
+                        space, mag, mag_out, mag_pass, block_groups[batch],
+                        group_start[batch], group_count[batch], wires, eliminated, chunk,
+                        stage_sizes,
+                    ):
+                        done += n_processed
+                        if candidates is not None:
+                            if robust is not None:
+                                _screen_corners(space, candidates, metrics, robust,
+                                                objectives, eliminated, nominal_front)
+                            ok = metrics["feasible"]
+                            feasible += int(np.count_nonzero(ok))
+                            if np.any(ok):
+                                front.offer(
+                                    model.objective_matrix(metrics, objectives)[ok],
+                                    {f: getattr(candidates, f)[ok] for f in CANDIDATE_FIELDS},
+                                )
+                            near.offer(candidates, metrics)
+                        if progress:
+                            progress(done, total)
     except KeyboardInterrupt:
         interrupted = True
 
@@ -181,7 +326,7 @@ def explore_exhaustive(
             raise AssertionError(f"candidate accounting is off: {counted} != {total}")
     near_cands, near_viol = near.result()
     if near_cands is None and not interrupted and feasible == 0:
-        near_cands, near_viol = _near_misses_from_magnetic(space, mag, mag_out)
+        near_cands, near_viol = _near_misses_from_magnetic(space, near_magnetic)
     return ExhaustiveOutcome(
         front=front,
         total=total,
@@ -231,16 +376,16 @@ def _batches_of_groups(group_count, windings_per_group, chunk_size) -> Iterator[
 
 
 def _process_group_batch(
-    space, mag, mag_out, mag_pass, groups, group_start, group_count, eliminated, chunk_size,
-    stage_sizes,
+    space, mag, mag_out, mag_pass, groups, group_start, group_count, wires, eliminated,
+    chunk_size, stage_sizes,
 ):
-    """Winding stage for a batch of (core, stack, turns) groups, then the join and the final
-    stage. Yields (candidates, metrics, number of candidates accounted for)."""
-    n_wire = len(space.wires.ids)
+    """Winding stage for a batch of (core, stack, turns) groups and a slice of the wires,
+    then the join and the final stage. Yields (candidates, metrics, number of candidates
+    accounted for)."""
     first_row = mag_pass[group_start]
     g_core, g_stack = mag["core"][first_row], mag["stack"][first_row]
     g_turns = mag["turns"][first_row]
-    gi, wire, parallel = _grid(np.arange(len(groups)), np.arange(n_wire), space.parallels)
+    gi, wire, parallel = _grid(np.arange(len(groups)), wires, space.parallels)
     core, stack, turns = g_core[gi], g_stack[gi], g_turns[gi]
     layout = model.winding_layout_stage(space, core, stack, turns, wire, parallel)
     stage_sizes["winding"] = stage_sizes.get("winding", 0) + len(core)
@@ -368,14 +513,37 @@ class _NearMisses:
         return self.candidates, self.violation
 
 
-def _near_misses_from_magnetic(space, mag, mag_out):
+class _MagneticNearMisses:
+    """The magnetic rows with the smallest worst violation seen so far, kept for when no
+    candidate gets past the first two stages."""
+
+    KEEP = NEAR_MISS_COUNT * 4
+
+    def __init__(self):
+        self.rows: dict[str, np.ndarray] | None = None
+        self.worst = np.empty(0)
+
+    def offer(self, mag: dict[str, np.ndarray], worst: np.ndarray) -> None:
+        picked = np.argsort(worst, kind="stable")[: self.KEEP]
+        fields = ("core", "stack", "material", "turns", "gap_option")
+        new = {f: mag[f][picked] for f in fields}
+        if self.rows is None:
+            merged, merged_w = new, worst[picked]
+        else:
+            merged = {f: np.concatenate([self.rows[f], new[f]]) for f in fields}
+            merged_w = np.concatenate([self.worst, worst[picked]])
+        keep = np.argsort(merged_w, kind="stable")[: self.KEEP]
+        self.rows = {f: v[keep] for f, v in merged.items()}
+        self.worst = merged_w[keep]
+
+
+def _near_misses_from_magnetic(space, kept: _MagneticNearMisses):
     """When no candidate got past the first two stages, pair the least-violating magnetic
     combinations with each wire/parallel choice and keep the closest full candidates."""
-    viol = np.stack([mag_out[f"violation_{c}"] for c in model.MAGNETIC_CONSTRAINTS], axis=1)
-    worst = viol.max(axis=1)
-    picked = np.argsort(worst, kind="stable")[: NEAR_MISS_COUNT * 4]
-    if picked.size == 0:
+    if kept.rows is None or not len(kept.worst):
         return None, np.empty(0)
+    mag = kept.rows
+    picked = np.arange(len(kept.worst))
     rows, wire, parallel = _grid(picked, np.arange(len(space.wires.ids)), space.parallels)
     candidates = model.Candidates(
         core=mag["core"][rows], stack=mag["stack"][rows], material=mag["material"][rows],

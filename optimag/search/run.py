@@ -6,6 +6,7 @@ from __future__ import annotations
 import difflib
 import re
 import time
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -14,7 +15,8 @@ import pandas as pd
 
 from optimag import __version__, model, records, tolerance
 from optimag.errors import InputError, Problem
-from optimag.search.exhaustive import CANDIDATE_FIELDS, explore_exhaustive
+from optimag.ranges import MAX_CANDIDATES, MEMORY_BUDGET_BYTES
+from optimag.search.exhaustive import CANDIDATE_FIELDS, SearchPlan, explore_exhaustive, plan
 from optimag.search.fingerprint import study_fingerprint
 from optimag.search.hand import hand_sizing
 from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
@@ -77,7 +79,8 @@ def _line_of(study, key: str) -> int | None:
 def explore(study, catalog=None, *, strategy: str | None = None, trials: int | None = None,
             seed: int | None = None, storage: str | None = None, top: int = DEFAULT_TOP,
             progress=None, chunk_size: int | None = None,
-            re_evaluate: bool = False) -> ExploreResult:
+            re_evaluate: bool = False, force: bool = False,
+            announce: Callable[[str], None] | None = None) -> ExploreResult:
     """Run what the study asks and build the front, short-list and run record.
 
     ``study`` is a loaded Study or a path to a study file; ``catalog`` defaults to the
@@ -87,6 +90,11 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     searched beside the catalogue; an existing optuna study in ``storage`` is resumed,
     or re-scored under this study with ``re_evaluate``). A ``[custom_core]`` table under
     the exhaustive strategy is noted in the run record: only the catalogue is enumerated.
+
+    Before an exhaustive search, the candidate count and estimated peak memory are passed
+    to ``announce`` (one line of text); a space above `optimag.ranges.MAX_CANDIDATES`
+    candidates or `optimag.ranges.MEMORY_BUDGET_BYTES` of estimated memory raises
+    InputError unless ``force``.
     """
     from optimag.catalog import load_catalog
     from optimag.spec import load_study
@@ -108,16 +116,52 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
                               storage=storage, progress=progress, re_evaluate=re_evaluate)
     space = model.build_design_space(study, catalog)
     objectives = list(study.search.objectives)
-    kwargs = {"chunk_size": chunk_size} if chunk_size else {}
-    if study.search.robust:
-        kwargs["robust"] = study.tolerance
-    outcome = explore_exhaustive(space, objectives, progress=progress, **kwargs)
+    search_plan = plan(space, chunk_size) if chunk_size else plan(space)
+    if announce is not None:
+        announce(search_plan.describe())
+    if not force:
+        refuse_oversized(study, search_plan)
+    robust = {"robust": study.tolerance} if study.search.robust else {}
+    outcome = explore_exhaustive(space, objectives, progress=progress, search_plan=search_plan,
+                                 **robust)
     result = _assemble(study, catalog, space, objectives, outcome, top)
     if getattr(study, "custom_core", None) is not None:
         result.record.setdefault("notes", []).append(
             "[custom_core] is searched by the optuna strategy only; this exhaustive run "
             "covers the catalogue's cores")
     return result
+
+
+#: Candidates per second assumed for the time estimate in a refusal (the slower example
+#: studies on one core of a small machine, tests/benchmarks/explore_speed.py).
+_ASSUMED_RATE = 3e6
+
+
+def refuse_oversized(study, search_plan: SearchPlan) -> None:
+    """Raise InputError when the exhaustive search's space is above the candidate limit or
+    its estimated peak memory above the budget (the user may insist with --force)."""
+    advice = (
+        "narrow [search] turns, stacks or parallels, filter cores/materials/wires, use "
+        "--strategy optuna, or pass --force to run it anyway"
+    )
+    problems = []
+    if search_plan.candidates > MAX_CANDIDATES:
+        hours = search_plan.candidates / _ASSUMED_RATE / 3600
+        problems.append(Problem(
+            str(study.path), _line_of(study, "turns_max"), "search",
+            f"the design space has {search_plan.candidates:,} candidates (about "
+            f"{hours:,.1f} h at {_ASSUMED_RATE / 1e6:g} M/s), above the exhaustive search's "
+            f"limit of {MAX_CANDIDATES:,}; {advice}",
+        ))
+    if search_plan.peak_bytes > MEMORY_BUDGET_BYTES:
+        problems.append(Problem(
+            str(study.path), None, "search",
+            f"the exhaustive search would need about {search_plan.peak_bytes / 1e6:,.0f} MB "
+            f"(budget {MEMORY_BUDGET_BYTES / 1e6:,.0f} MB), mostly for the catalogue; "
+            f"{advice}",
+        ))
+    if problems:
+        raise InputError(problems)
 
 
 def _assemble(study, catalog, space, objectives, outcome, top,

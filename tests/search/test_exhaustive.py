@@ -177,3 +177,65 @@ def test_volume_and_mass_limits_cut_the_front_where_they_should(make_tiny_study)
     new_front = cut.pareto[columns].to_numpy()
     for row in free.pareto.loc[inside, columns].to_numpy():
         assert np.any(np.all(new_front <= row * (1 + 1e-9), axis=1))
+
+
+def test_blocks_and_wire_slices_do_not_change_the_front(tiny_study_path):
+    """Stage 1 in blocks of one group and stage 2 in slices of one wire give the same front
+    and counts as one pass over the whole space."""
+    from optimag.search.exhaustive import SearchPlan, plan
+
+    study, space = _space(tiny_study_path)
+    objectives = list(study.search.objectives)
+    whole = explore_exhaustive(space, objectives)
+    size = space_size(space)
+    tiny = SearchPlan(candidates=size, magnetic_block=1, chunk=len(space.parallels),
+                      peak_bytes=0)
+    pieces = explore_exhaustive(space, objectives, search_plan=tiny)
+    assert pieces.total == whole.total == size == plan(space).candidates
+    assert pieces.eliminated == whole.eliminated and pieces.feasible == whole.feasible
+    assert pieces.stage_sizes["magnetic"] == len(magnetic_grid(space)["core"])
+    order_p = np.lexsort(pieces.front.objectives.T)
+    order_w = np.lexsort(whole.front.objectives.T)
+    np.testing.assert_array_equal(pieces.front.objectives[order_p],
+                                  whole.front.objectives[order_w])
+
+
+def test_space_size_counts_without_building_the_grid(tiny_study_path):
+    """The closed-form count equals the number of rows of the grid times the windings."""
+    _, space = _space(tiny_study_path)
+    rows = len(magnetic_grid(space)["core"])
+    assert space_size(space) == rows * len(space.wires.ids) * len(space.parallels)
+
+
+def test_oversized_space_is_refused_before_the_search(tmp_path, capsys):
+    """A space above the candidate limit is refused at once (exit 2) with its size and the
+    way out; nothing is evaluated, no run folder is written."""
+    from pathlib import Path
+
+    from optimag.cli import main
+
+    root = Path(__file__).resolve().parents[2]
+    text = (root / "studies" / "cargo-bike-buck.toml").read_text(encoding="utf-8")
+    text = text.replace('path = "../catalogs/demo"', f'path = "{root}/catalogs/demo"')
+    for key, value in (("turns_max", 10_000), ("parallel_max", 100), ("stack_max", 3)):
+        text = "\n".join(f"{key} = {value}" if line.startswith(f"{key} =") else line
+                         for line in text.splitlines())
+    study = tmp_path / "big.toml"
+    study.write_text(text, encoding="utf-8")
+    assert main(["explore", str(study), "--out", str(tmp_path / "run")]) == 2
+    err = capsys.readouterr().err
+    assert "candidates" in err and "--force" in err and "estimated peak memory" in err
+    assert "Traceback" not in err
+    assert not (tmp_path / "run").exists()
+
+
+def test_force_runs_a_space_above_the_limit(tiny_study_path, monkeypatch, capsys):
+    from optimag.cli import main
+    from optimag.search import run
+
+    monkeypatch.setattr(run, "MAX_CANDIDATES", 10)
+    out = tiny_study_path.parent / "run"
+    assert main(["explore", str(tiny_study_path), "--out", str(out)]) == 2
+    assert "above the exhaustive search's limit of 10" in capsys.readouterr().err
+    assert main(["explore", str(tiny_study_path), "--out", str(out), "--force"]) in (0, 1)
+    assert (out / "run.json").is_file()
