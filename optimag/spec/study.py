@@ -66,7 +66,7 @@ from optimag.ranges import (
     VOLUME_CM3,
 )
 from optimag.spec.custom_core import CUSTOM_DIMENSIONS, CustomCore
-from optimag.spec.tolerance import ToleranceSpec
+from optimag.spec.tolerance import SPREAD_DEFAULTS, ToleranceSpec
 from optimag.spec.waveform import ccm_ripple_inductance
 
 # Strict numbers: TOML already types its values, so "12" must stay an error rather than
@@ -878,6 +878,11 @@ def range_table_markdown() -> str:
                 f"{'≤' if high_in else '<'} {_number(high)}"
             )
             lines.append(f"| `{header}` | `{name}` | {shown} |")
+        if model is ToleranceSpec:
+            lines.extend(
+                f"| `{header}` | `{name}` | 0 ≤ {name} ≤ {_number(upper)} (the ± half width) |"
+                for name, (_, _, upper) in SPREAD_DEFAULTS.items()
+            )
         if model is CustomCore:
             low, high = CUSTOM_DIMENSION_MM
             lines.extend(

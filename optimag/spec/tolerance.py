@@ -110,7 +110,9 @@ class ToleranceSpec(BaseModel):
             if isinstance(item, bool):
                 continue  # left for the field's own type error
             if isinstance(item, int | float):
-                out[key] = {"spread": float(item), "distribution": distribution}
+                # An integer beyond float range stays an integer: the field refuses it.
+                spread = float(item) if abs(item) < 1e300 else item
+                out[key] = {"spread": spread, "distribution": distribution}
             elif isinstance(item, dict) and "distribution" not in item:
                 out[key] = {**item, "distribution": distribution}
         return out
