@@ -30,11 +30,13 @@ import difflib
 import hashlib
 import io
 import math
+import os
 import re
+from array import array
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Literal
+from typing import Any, BinaryIO, Literal, TextIO
 
 import numpy as np
 import pandas as pd
@@ -706,9 +708,58 @@ def catalog_content_hash(file_bytes: Sequence[tuple[str, bytes]]) -> str:
     return digest.hexdigest()
 
 
+#: Problems kept per file; beyond it they are counted, so a huge broken file cannot fill
+#: memory with messages.
+MAX_PROBLEMS_PER_FILE = 1000
+
+
+class _Columns:
+    """The valid rows of a table, stored column by column in compact arrays (8 bytes per
+    number), so a catalogue of millions of rows stays small in memory."""
+
+    def __init__(self, table: Table):
+        self.table = table
+        self.numbers = {
+            c.name: array("q" if c.kind == "int" else "d")
+            for c in table.columns
+            if c.kind in ("int", "float")
+        }
+        self.texts: dict[str, list[str]] = {
+            c.name: [] for c in table.columns if c.kind in ("text", "choice")
+        }
+        self.lines = array("q")
+
+    def __len__(self) -> int:
+        return len(self.lines)
+
+    def append(self, values: RowValues, line: int) -> None:
+        for name, column in self.numbers.items():
+            cell = values.get(name)
+            if column.typecode == "q":
+                # Integer columns may be empty only where a single conductor is implied.
+                column.append(1 if cell is None else int(cell))
+            else:
+                column.append(math.nan if cell is None else float(cell))
+        for name, column in self.texts.items():
+            column.append(str(values.get(name)))
+        self.lines.append(line)
+
+    def frame(self) -> pd.DataFrame:
+        data: dict[str, object] = {}
+        for column in self.table.columns:
+            if column.name in self.texts:
+                data[column.name] = self.texts[column.name]
+            else:
+                numbers = self.numbers[column.name]
+                dtype = np.int64 if numbers.typecode == "q" else np.float64
+                data[column.name] = np.frombuffer(numbers, dtype=dtype)
+        data["line"] = np.frombuffer(self.lines, dtype=np.int64)
+        return pd.DataFrame(data, index=pd.RangeIndex(len(self)))
+
+
 @dataclass
 class _ParsedTable:
-    records: list[RowValues]
+    rows: _Columns
     problems: list[Problem]
 
 
@@ -727,6 +778,16 @@ def _closest(name: str, candidates: Sequence[str]) -> str | None:
 
 def _parse_number(text: str) -> tuple[float | None, str | None]:
     """Return (value, None) or (None, reason)."""
+    # Fast path: float() alone also takes "nan", "inf", "1_000" and spaces, which the
+    # pattern below refuses; only digits, a sign, '.' and an exponent pass it here.
+    if text.isascii() and "_" not in text and " " not in text and "n" not in text.lower():
+        try:
+            value = float(text)
+        except ValueError:
+            pass
+        else:
+            if math.isfinite(value):
+                return value, None
     if not _NUMBER.match(text):
         if text.lower() in _NON_FINITE_WORDS:
             return None, "is not a finite number"
@@ -811,7 +872,11 @@ def _check_row(
 ) -> tuple[RowValues | None, list[Problem]]:
     """Validate one data row; return its typed values (None if anything is wrong)."""
     problems: list[Problem] = []
-    damaged = {name for name, text in cells.items() if _CONTROL.search(text)}
+    damaged = (
+        {name for name, text in cells.items() if _CONTROL.search(text)}
+        if _CONTROL.search("".join(cells.values()))
+        else set()
+    )
     for name in sorted(damaged, key=list(cells).index):
         code = ord(_CONTROL.search(cells[name]).group())
         problems.append(
@@ -940,18 +1005,60 @@ def _check_row(
     return (None if problems else values), problems
 
 
-def _parse_table(table: Table, path: Path, content: bytes) -> _ParsedTable:
-    file = str(path)
-    try:
-        text = content.decode("utf-8-sig")
-    except UnicodeDecodeError as error:
-        return _ParsedTable(
-            [], [Problem(file, None, "", f"file is not UTF-8 text ({error.reason})")]
-        )
+class _Problems(list):
+    """A file's problems, keeping the first `MAX_PROBLEMS_PER_FILE` and counting the rest."""
 
-    problems: list[Problem] = []
-    records: list[RowValues] = []
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    def __init__(self, file: str):
+        super().__init__()
+        self.file = file
+        self.dropped = 0
+
+    def append(self, problem: Problem) -> None:
+        if len(self) < MAX_PROBLEMS_PER_FILE:
+            super().append(problem)
+        else:
+            self.dropped += 1
+
+    def extend(self, problems) -> None:
+        for problem in problems:
+            self.append(problem)
+
+    def closed(self) -> list[Problem]:
+        found = list(self)
+        if self.dropped:
+            found.append(Problem(
+                self.file, None, "",
+                f"... and {self.dropped:,} more problem(s) in this file (only the first "
+                f"{MAX_PROBLEMS_PER_FILE:,} are listed)",
+            ))
+        return found
+
+
+class _HashingReader(io.RawIOBase):
+    """Reads a binary file and feeds every byte to a hash on the way."""
+
+    def __init__(self, raw: BinaryIO, digest: Any):
+        self.raw = raw
+        self.digest = digest
+        self.size = 0
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer: Any) -> int:
+        count = self.raw.readinto(buffer)
+        if count:
+            self.digest.update(memoryview(buffer)[:count])
+            self.size += count
+        return count or 0
+
+
+def _parse_table(table: Table, path: Path, text: TextIO) -> _ParsedTable:
+    """Parse one table from a text stream, row by row (the file is never held whole)."""
+    file = str(path)
+    problems = _Problems(file)
+    rows = _Columns(table)
+    reader = csv.reader(text, strict=True)
     positions: dict[str, int] | None = None
     header_names: list[str] = []
     header_width = 0
@@ -966,7 +1073,7 @@ def _parse_table(table: Table, path: Path, content: bytes) -> _ParsedTable:
                     problems.append(
                         Problem(file, line, "", "line 1 must be the header row; it is empty")
                     )
-                    return _ParsedTable([], problems)
+                    return _ParsedTable(rows, problems.closed())
                 if row[0].lstrip().startswith("#"):
                     problems.append(
                         Problem(
@@ -977,7 +1084,7 @@ def _parse_table(table: Table, path: Path, content: bytes) -> _ParsedTable:
                             "must be the header row",
                         )
                     )
-                    return _ParsedTable([], problems)
+                    return _ParsedTable(rows, problems.closed())
                 positions, header_problems = _check_header(table, row, file)
                 problems.extend(header_problems)
                 header_names = [cell.strip() for cell in row]
@@ -1025,46 +1132,35 @@ def _parse_table(table: Table, path: Path, content: bytes) -> _ParsedTable:
             cells = {name: row[position].strip() for name, position in positions.items()}
             values, row_problems = _check_row(table, cells, line, file, seen_ids)
             problems.extend(row_problems)
-            if values is not None:
-                values["line"] = line
-                records.append(values)
+            if values is not None and not problems:
+                # Once a file has a problem it will not load, so its rows are not kept.
+                rows.append(values, line)
     except csv.Error as error:
         problems.append(Problem(file, reader.line_num, "", f"unreadable CSV: {error}"))
-        return _ParsedTable(records, problems)
+        return _ParsedTable(rows, problems.closed())
+    except UnicodeDecodeError as error:
+        problems.append(Problem(file, None, "", f"file is not UTF-8 text ({error.reason})"))
+        return _ParsedTable(rows, problems.closed())
 
     if positions is None:
         problems.append(Problem(file, None, "", "file is empty; line 1 must be the header row"))
-    elif not records and not problems:
+    elif not len(rows) and not problems:
         problems.append(
             Problem(file, None, "", f"table has no rows; add at least one {table.noun}")
         )
-    return _ParsedTable(records, problems)
-
-
-def _to_frame(table: Table, records: list[RowValues]) -> pd.DataFrame:
-    data: dict[str, object] = {}
-    for column in table.columns:
-        cells = [record.get(column.name) for record in records]
-        if column.kind in ("text", "choice"):
-            data[column.name] = [str(cell) for cell in cells]
-        elif column.kind == "int":
-            # Integer columns may be empty only where a single conductor is implied (foil).
-            data[column.name] = np.array(
-                [1 if cell is None else cell for cell in cells], dtype=np.int64
-            )
-        else:
-            data[column.name] = np.array(
-                [np.nan if cell is None else cell for cell in cells], dtype=np.float64
-            )
-    data["line"] = np.array([record["line"] for record in records], dtype=np.int64)
-    return pd.DataFrame(data, index=pd.RangeIndex(len(records)))
+    return _ParsedTable(rows, problems.closed())
 
 
 def _read(folder: str | Path) -> tuple[list[Problem], Catalog | None]:
     folder_path = Path(folder)
-    if not folder_path.exists():
+    try:
+        is_dir = folder_path.is_dir()
+        exists = is_dir or folder_path.exists()
+    except OSError as error:  # a symlink loop, a name too long, ...
+        return [Problem(str(folder_path), None, "", f"cannot open: {error.strerror}")], None
+    if not exists:
         return [Problem(str(folder_path), None, "", "catalogue folder not found")], None
-    if not folder_path.is_dir():
+    if not is_dir:
         return [
             Problem(
                 str(folder_path),
@@ -1077,11 +1173,25 @@ def _read(folder: str | Path) -> tuple[list[Problem], Catalog | None]:
 
     problems: list[Problem] = []
     parsed: list[_ParsedTable] = []
-    contents: list[tuple[str, bytes]] = []
+    digest = hashlib.sha256()
     for table in TABLES:
         path = folder_path / table.file_name
         try:
-            content = path.read_bytes()
+            with open(path, "rb") as raw:
+                size = os.fstat(raw.fileno()).st_size
+                digest.update(f"{table.file_name}\0{size}\0".encode())
+                hashing = _HashingReader(raw, digest)
+                text = io.TextIOWrapper(
+                    io.BufferedReader(hashing, buffer_size=1 << 20),
+                    encoding="utf-8-sig",
+                    newline="",
+                )
+                result = _parse_table(table, path, text)
+                if not result.problems and hashing.size != size:
+                    result.problems.append(Problem(
+                        str(path), None, "",
+                        "the file changed while it was read; run again when it is saved",
+                    ))
         except FileNotFoundError:
             problems.append(
                 Problem(
@@ -1096,21 +1206,17 @@ def _read(folder: str | Path) -> tuple[list[Problem], Catalog | None]:
         except OSError as error:
             problems.append(Problem(str(path), None, "", f"cannot read the file ({error})"))
             continue
-        contents.append((table.file_name, content))
-        result = _parse_table(table, path, content)
         parsed.append(result)
         problems.extend(result.problems)
     if problems:
         return problems, None
-    cores, materials, wires = (
-        _to_frame(table, result.records) for table, result in zip(TABLES, parsed, strict=True)
-    )
+    cores, materials, wires = (result.rows.frame() for result in parsed)
     catalog = Catalog(
         folder=folder_path,
         cores=cores,
         materials=materials,
         wires=wires,
-        content_hash=catalog_content_hash(contents),
+        content_hash=digest.hexdigest(),
     )
     return [], catalog
 

@@ -14,14 +14,18 @@ whatever its size:
    loss-temperature stage; a running Pareto front and the elimination counts are all that
    is kept.
 
-`plan` sizes the blocks and chunks from a memory budget and estimates the candidate count
-and peak memory before anything is evaluated.
+`plan` counts the candidates, measures the bytes a row holds in each stage on a few
+thousand rows of the space, and sizes the blocks and chunks so the estimated peak memory
+stays within a budget, before the search starts.
 """
 
 from __future__ import annotations
 
 import dataclasses
+import os
+import sys
 import time
+import tracemalloc
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 
@@ -43,19 +47,10 @@ ROBUST_CONSTRAINT = "tolerance_corners"
 #: Magnetic rows (group x material x gap option) per block of stage 1, at most.
 DEFAULT_MAGNETIC_BLOCK = 200_000
 
-# Bytes held per row while a stage runs (inputs, outputs and numpy temporaries), as
-# (constant, per operating point, per harmonic). Measured as the peak RSS
-# of each stage on 200,000 random rows of the example studies (3 points: magnetic 773,
-# winding 673 at 25 and 3,118 at 200 harmonics, all stages together 1,400 B/row), then
-# rounded up; the harmonic term assumes every row is a distinct AC case.
-_MAGNETIC_ROW_BYTES = (300, 200, 0)
-_WINDING_ROW_BYTES = (300, 100, 60)
-_FINAL_ROW_BYTES = (200, 450, 0)
-#: Process memory before the search: interpreter, numpy, pandas, pydantic [bytes].
-_BASE_BYTES = 150_000_000
-#: Catalogue tables, their model arrays and the group index, per core / material / wire
-#: row [bytes] (tests/benchmarks/memory_bounds.py measures a 1,000,000-core catalogue).
-_CATALOGUE_ROW_BYTES = 600
+#: Rows of the space evaluated, with allocations traced, to measure the bytes a row holds
+#: in stage 1 and in stages 2-3; the measurement is scaled by `_PROBE_MARGIN`.
+PROBE_ROWS = 1000
+_PROBE_MARGIN = 1.5
 #: Share of the memory budget the plan fills; the rest covers what the estimate misses.
 _PLANNED_SHARE = 0.75
 
@@ -104,9 +99,56 @@ class SearchPlan:
         )
 
 
-def _row_bytes(coefficients: tuple[int, int, int], n_points: int, n_harmonics: int) -> int:
-    constant, per_point, per_harmonic = coefficients
-    return constant + per_point * n_points + per_harmonic * n_harmonics
+def _current_rss_bytes() -> int:
+    """Resident memory of this process now [bytes] (Linux /proc; elsewhere the peak so
+    far, an overestimate)."""
+    try:
+        with open("/proc/self/statm", encoding="ascii") as statm:
+            return int(statm.read().split()[1]) * os.sysconf("SC_PAGE_SIZE")
+    except (OSError, ValueError, IndexError, AttributeError):
+        import resource
+
+        scale = 1 if sys.platform == "darwin" else 1024
+        return int(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss) * scale
+
+
+def _traced_peak(work: Callable[[], object]) -> int:
+    """Peak bytes newly allocated while ``work`` runs (numpy buffers included)."""
+    tracing = tracemalloc.is_tracing()
+    if not tracing:
+        tracemalloc.start()
+    tracemalloc.reset_peak()
+    before = tracemalloc.get_traced_memory()[0]
+    try:
+        work()
+        return max(tracemalloc.get_traced_memory()[1] - before, 0)
+    finally:
+        if not tracing:
+            tracemalloc.stop()
+
+
+def _probe_row_bytes(space: model.DesignSpace) -> tuple[int, int]:
+    """Bytes per row held by stage 1 and by stages 2-3, measured on the first rows of the
+    space (a full `model.evaluate` stands for stages 2-3: it holds every figure a joined
+    row carries). Returns (0, 0) for an empty space."""
+    groups = _Groups(space)
+    rows_per_group = max(1, len(space.materials.ids) * space.n_gap_options)
+    stop = min(groups.count, -(-PROBE_ROWS // rows_per_group))
+    if stop == 0 or not len(space.wires.ids):
+        return 0, 0
+    mag = _magnetic_rows(space, *groups.decode(0, stop))
+    n = min(len(mag["core"]), PROBE_ROWS)
+    mag = {k: v[:n] for k, v in mag.items()}
+    magnetic = _traced_peak(lambda: model.magnetic_stage(
+        space, mag["core"], mag["stack"], mag["material"], mag["turns"], mag["gap_option"]))
+    spread = np.arange(n)
+    candidates = model.Candidates(
+        core=mag["core"], stack=mag["stack"], material=mag["material"], turns=mag["turns"],
+        gap_option=mag["gap_option"], wire=spread % len(space.wires.ids),
+        parallel=space.parallels[spread % len(space.parallels)],
+    )
+    joined = _traced_peak(lambda: model.evaluate(space, candidates))
+    return (int(_PROBE_MARGIN * magnetic / n) + 1, int(_PROBE_MARGIN * joined / n) + 1)
 
 
 def plan(
@@ -116,22 +158,15 @@ def plan(
 ) -> SearchPlan:
     """Count the candidates of ``space`` and size the blocks and chunks so the search's
     peak memory stays within ``memory_budget`` [bytes] (chunks never above
-    ``chunk_size``). Nothing is evaluated."""
-    n_points = len(space.operating.share)
-    n_harm = int(space.operating.harmonics_A.shape[1])
-    catalogue = _CATALOGUE_ROW_BYTES * (
-        len(space.cores.ids) + len(space.materials.ids) + len(space.wires.ids)
-    )
-    # Half the budget left after the fixed part goes to the stage-1 block (kept while its
-    # groups go through stages 2 and 3), half to one stage-2/3 chunk.
-    share = max(int(_PLANNED_SHARE * memory_budget - _BASE_BYTES - catalogue) // 2, 1)
-    mag_row = _row_bytes(_MAGNETIC_ROW_BYTES, n_points, n_harm)
-    late_row = max(
-        _row_bytes(_WINDING_ROW_BYTES, n_points, n_harm),
-        _row_bytes(_FINAL_ROW_BYTES, n_points, n_harm),
-    )
-    magnetic_block = int(max(1_000, min(DEFAULT_MAGNETIC_BLOCK, share // mag_row)))
-    chunk = int(max(1_000, min(chunk_size, share // late_row)))
+    ``chunk_size``): the process's memory now plus a block and a chunk at the bytes per row
+    measured on `PROBE_ROWS` rows of the space."""
+    base = _current_rss_bytes()
+    mag_row, late_row = _probe_row_bytes(space)
+    # Half the planned budget left above what the process holds now goes to the stage-1
+    # block (kept while its groups go through stages 2 and 3), half to one stage-2/3 chunk.
+    share = max(int(_PLANNED_SHARE * memory_budget - base) // 2, 1)
+    magnetic_block = int(max(1_000, min(DEFAULT_MAGNETIC_BLOCK, share // max(mag_row, 1))))
+    chunk = int(max(1_000, min(chunk_size, share // max(late_row, 1))))
     # A block holds whole groups (materials x gap options rows each); a slice of one group
     # holds at least one wire with every parallel count.
     candidates = space_size(space)
@@ -139,7 +174,7 @@ def plan(
     group_rows = len(space.materials.ids) * space.n_gap_options
     magnetic_rows = min(max(magnetic_block, group_rows), candidates // max(windings, 1))
     slice_rows = min(max(chunk, len(space.parallels)), candidates)
-    peak = _BASE_BYTES + catalogue + magnetic_rows * mag_row + slice_rows * late_row
+    peak = base + magnetic_rows * mag_row + slice_rows * late_row
     return SearchPlan(
         candidates=candidates, magnetic_block=magnetic_block, chunk=chunk,
         peak_bytes=int(peak),
