@@ -35,6 +35,9 @@ TRIALS = (1, 100_000_000)
 BATCH = (1, 100_000)
 SEED = (0, 2**32 - 1)  # what numpy's and optuna's generators accept
 TITLE_CHARACTERS = 200
+BOARD_COPPER_MM2 = (0.0, 1e6)
+ENCLOSURE_VOLUME_CM3 = (1.0, 1e7)
+POTTING_THICKNESS_MM = (0.01, 100.0)
 
 # --- custom core -----------------------------------------------------------------------
 CUSTOM_DIMENSION_MM = (0.1, 1000.0)

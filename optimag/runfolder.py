@@ -22,6 +22,7 @@ from optimag import files
 from optimag.report import export
 from optimag.report.html import REPORT_NAME
 from optimag.search.run import ExploreResult
+from optimag.spec.study import runnable_study_text
 
 __all__ = ["RUN_FILES", "default_run_dir", "write_run"]
 
@@ -95,7 +96,12 @@ def write_run(result: ExploreResult, run_dir: Path | str | None = None, *,
         started = time.perf_counter()
         staging = Path(tempfile.mkdtemp(prefix=".incoming-", dir=run_dir))
         try:
-            files.atomic_copy(result.study.path, staging / "study.toml")
+            # The copy names the catalogue by absolute path and content hash, so the run
+            # can be repeated from its folder.
+            files.atomic_write_text(
+                staging / "study.toml",
+                runnable_study_text(result.study, result.catalog.content_hash),
+            )
             export.write_tables(staging, result.pareto, result.shortlist_records,
                                 currency=str(result.record.get("currency", "")))
             result.record["report"] = "written" if report else "not requested"

@@ -51,8 +51,18 @@ class ExploreResult:
 
 
 def check_study_against_catalog(study, catalog) -> None:
-    """Ids named in the study's search filters must exist in the catalogue."""
+    """Ids named in the study's search filters must exist in the catalogue, and a study
+    that records the catalogue's content hash (``[catalog] sha256``, as a run folder's
+    copy does) needs the catalogue to still have it."""
     problems = []
+    recorded = getattr(study.catalog, "sha256", None)
+    if recorded is not None and recorded != catalog.content_hash:
+        problems.append(Problem(
+            str(study.path), _line_of(study, "sha256"), "catalog.sha256",
+            f"the catalogue {catalog.folder} has changed since this study was run (content "
+            f"sha256 {catalog.content_hash[:12]}..., recorded {recorded[:12]}...); restore "
+            "it, or delete the sha256 line to search the catalogue as it is now",
+        ))
     tables = {"cores": catalog.cores, "materials": catalog.materials, "wires": catalog.wires}
     for key, table in tables.items():
         wanted = getattr(study.search, key) or []

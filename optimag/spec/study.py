@@ -15,6 +15,7 @@ one bad section does not hide the faults of another.
 from __future__ import annotations
 
 import difflib
+import json
 import math
 import os
 import re
@@ -43,8 +44,10 @@ from pydantic.fields import FieldInfo
 from optimag.errors import InputError, Problem
 from optimag.ranges import (
     BATCH,
+    BOARD_COPPER_MM2,
     CURRENT_A,
     CUSTOM_DIMENSION_MM,
+    ENCLOSURE_VOLUME_CM3,
     FOOTPRINT_MM2,
     FREQUENCY_KHZ,
     GAP_GRID_ENTRIES,
@@ -55,6 +58,7 @@ from optimag.ranges import (
     MASS_G,
     MONEY,
     PARALLEL,
+    POTTING_THICKNESS_MM,
     RIPPLE_FRACTION,
     SEED,
     STACK,
@@ -213,9 +217,11 @@ class Search(_Section):
 
 
 class CatalogRef(_Section):
-    """``[catalog]``: the catalogue folder, relative to the study file."""
+    """``[catalog]``: the catalogue folder, relative to the study file, and optionally the
+    content hash the catalogue must have (a run folder's study copy records it)."""
 
     path: Path
+    sha256: Annotated[str, Strict(), StringConstraints(pattern=r"^[0-9a-f]{64}$")] | None = None
 
     @field_validator("path", mode="before")
     @classmethod
@@ -248,7 +254,6 @@ class ModelChoices(_Section):
     thermal: Literal["faces", "convection", "mclyman", "ferrite_rth"] = "faces"
 
 
-NonNegative = Annotated[float, Strict(), AllowInfNan(False), Field(ge=0)]
 
 #: Keys of ``[cooling]`` each mode needs (and only that mode accepts).
 COOLING_MODE_KEYS: dict[str, tuple[str, ...]] = {
@@ -277,15 +282,15 @@ class Cooling(_Section):
 
     mode: Literal["free_air", "on_board", "enclosure", "forced_air", "potted"] = "free_air"
     board_temperature_C: Celsius | None = None
-    board_copper_area_mm2: NonNegative | None = None
-    enclosure_volume_cm3: PositiveNumber | None = None
+    board_copper_area_mm2: _bounded(*BOARD_COPPER_MM2) | None = None
+    enclosure_volume_cm3: _bounded(*ENCLOSURE_VOLUME_CM3) | None = None
     air_speed_m_s: Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=50)] | None = (
         None
     )
     potting_conductivity_W_mK: Annotated[
         float, Strict(), AllowInfNan(False), Field(gt=0, le=400)
     ] | None = None
-    potting_thickness_mm: PositiveNumber | None = None
+    potting_thickness_mm: _bounded(*POTTING_THICKNESS_MM) | None = None
     wall_temperature_C: Celsius | None = None
     core_emissivity: Fraction = 0.9
     winding_emissivity: Fraction = 0.85
@@ -520,6 +525,54 @@ def parse_study(
     study._path = file
     study._source_text = source_text
     return study
+
+
+def runnable_study_text(study: Study, content_hash: str) -> str:
+    """The study's text as a run folder keeps it: ``[catalog] path`` made absolute and
+    ``sha256`` set to the catalogue's content hash, so the copy can be rerun from the run
+    folder and refuses a catalogue that has changed since. Everything else, comments
+    included, is kept as written. Where the catalogue is not written as a plain
+    ``[catalog]`` table (an inline table, dotted keys), a comment at the top records the
+    path and hash instead."""
+    text = study.source_text
+    folder = str(study.catalog.path)
+    lines = text.splitlines(keepends=True)
+    index = _LineIndex(text)
+    path_line = index.lines.get(("catalog", "path"))
+    hash_line = index.lines.get(("catalog", "sha256"))
+    candidate = None
+    if path_line is not None and re.match(r"\s*path\s*=", lines[path_line - 1]):
+        ending = "\r\n" if lines[path_line - 1].endswith("\r\n") else "\n"
+        new = list(lines)
+        new[path_line - 1] = f"path = {_toml_string(folder)}{ending}"
+        hash_text = f'sha256 = "{content_hash}"{ending}'
+        if hash_line is not None and re.match(r"\s*sha256\s*=", lines[hash_line - 1]):
+            new[hash_line - 1] = hash_text
+        else:
+            new.insert(path_line, hash_text)
+        candidate = "".join(new)
+        try:
+            written = tomllib.loads(candidate)
+            original = tomllib.loads(text)
+        except tomllib.TOMLDecodeError:
+            candidate = None
+        else:
+            original["catalog"] = {**original.get("catalog", {}), "path": folder,
+                                   "sha256": content_hash}
+            if written != original:
+                candidate = None
+    if candidate is not None:
+        return candidate
+    return (
+        f"# Run with the catalogue {folder} (content sha256 {content_hash}).\n" + text
+    )
+
+
+def _toml_string(text: str) -> str:
+    """A TOML string holding ``text``: a literal string where it can be one."""
+    if "'" not in text and not any(ord(c) < 32 or ord(c) == 127 for c in text):
+        return f"'{text}'"
+    return json.dumps(text, ensure_ascii=False)
 
 
 def _validate_points(content: Any, problems: list[Problem], problem: Any) -> Any:
