@@ -32,6 +32,7 @@ import io
 import math
 import os
 import re
+import stat
 from array import array
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -1154,9 +1155,11 @@ def _parse_table(table: Table, path: Path, text: TextIO) -> _ParsedTable:
 def _read(folder: str | Path) -> tuple[list[Problem], Catalog | None]:
     folder_path = Path(folder)
     try:
-        is_dir = folder_path.is_dir()
-        exists = is_dir or folder_path.exists()
-    except OSError as error:  # a symlink loop, a name too long, ...
+        is_dir = stat.S_ISDIR(folder_path.stat().st_mode)
+        exists = True
+    except FileNotFoundError:
+        is_dir = exists = False
+    except OSError as error:  # a symbolic-link loop, no permission, a name too long
         return [Problem(str(folder_path), None, "", f"cannot open: {error.strerror}")], None
     if not exists:
         return [Problem(str(folder_path), None, "", "catalogue folder not found")], None

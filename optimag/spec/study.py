@@ -236,7 +236,14 @@ class CatalogRef(_Section):
     @classmethod
     def _existing_folder(cls, value: Path, info: ValidationInfo) -> Path:
         base = Path((info.context or {}).get("study_dir", Path.cwd()))
-        folder = (base / value.expanduser()).resolve()
+        try:
+            folder = (base / value.expanduser()).resolve()
+            folder.stat()
+        except FileNotFoundError:
+            pass  # reported below, with where it was looked for
+        except (OSError, RuntimeError) as error:  # a symbolic-link loop, no permission
+            reason = getattr(error, "strerror", None) or "a symbolic-link loop"
+            raise ValueError(f"catalogue path '{value}' cannot be opened: {reason}") from None
         if not folder.exists():
             raise ValueError(
                 f"catalogue folder '{value}' does not exist (looked for {folder}; "
@@ -434,8 +441,12 @@ def load_study(path: str | os.PathLike[str]) -> Study:
     """
     shown = str(path)
     file = Path(path)
-    if not file.exists():
-        raise InputError([Problem(shown, None, "", "study file not found")])
+    try:
+        file.stat()
+    except FileNotFoundError:
+        raise InputError([Problem(shown, None, "", "study file not found")]) from None
+    except OSError as error:  # a symbolic-link loop, no permission, a name too long
+        raise InputError([Problem(shown, None, "", f"cannot open: {error.strerror}")]) from None
     if file.is_dir():
         raise InputError([Problem(shown, None, "", "is a folder; expected a study .toml file")])
     try:
