@@ -74,9 +74,10 @@ FOIL_THICKNESS_MM = (0.001, 10.0)
 FOIL_WIDTH_MM = (0.1, 1000.0)
 INSULATION_MM = (0.0, 10.0)
 BOBBIN_WALL_CATALOGUE_MM = BOBBIN_WALL_MM
-#: Longest id or name: fits a spreadsheet cell (32,767 characters) many times over and any
-#: table column; longer is a pasted blob, not a name.
-ID_CHARACTERS = 100
+#: Longest id or name (catalogue ids, operating-point names, the study's id filters): fits
+#: a spreadsheet cell (32,767 characters) and a table column; longer is a pasted blob, not
+#: a name.
+ID_CHARACTERS = 80
 
 # --- exhaustive search -----------------------------------------------------------------
 #: Candidates above which the exhaustive search asks for --force (about 15 minutes at

@@ -53,6 +53,7 @@ from optimag.ranges import (
     GAP_GRID_ENTRIES,
     GAP_MM,
     HEIGHT_MM,
+    ID_CHARACTERS,
     INDUCTANCE_UH,
     LOSS_W,
     MASS_G,
@@ -105,7 +106,7 @@ VolumeCM3 = _bounded(*VOLUME_CM3)
 MassG = _bounded(*MASS_G)
 Text = Annotated[str, Strict()]
 Title = Annotated[str, Strict(), StringConstraints(max_length=TITLE_CHARACTERS)]
-Name = Annotated[str, Strict(), StringConstraints(min_length=1, max_length=80)]
+Name = Annotated[str, Strict(), StringConstraints(min_length=1, max_length=ID_CHARACTERS)]
 Slug = Annotated[str, Strict(), StringConstraints(pattern=r"^[a-z0-9-]+$", max_length=64)]
 
 #: Ripple fraction used when a study states neither an inductance nor a ripple

@@ -281,7 +281,7 @@ CASES = [
     Case("nul_in_family", set_cell("cores.csv", "pot-18", "family", "E\x00"),
          "cores.csv", 3, "family", ("control character U+0000", "damaged")),
     Case("overlong_id", set_cell("cores.csv", "pot-18", "id", "p" * 40_000),
-         "cores.csv", 3, "id", ("id has 40,000 characters; at most 100",)),
+         "cores.csv", 3, "id", ("id has 40,000 characters; at most 80",)),
 ]  # fmt: skip
 
 
