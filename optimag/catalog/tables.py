@@ -746,6 +746,8 @@ class _Columns:
         self.lines.append(line)
 
     def frame(self) -> pd.DataFrame:
+        """The rows as a DataFrame; the compact arrays are released column by column as
+        they are copied, so the peak is the frame plus one column."""
         data: dict[str, object] = {}
         for column in self.table.columns:
             if column.name in self.texts:
@@ -753,9 +755,11 @@ class _Columns:
             else:
                 numbers = self.numbers[column.name]
                 dtype = np.int64 if numbers.typecode == "q" else np.float64
-                data[column.name] = np.frombuffer(numbers, dtype=dtype)
-        data["line"] = np.frombuffer(self.lines, dtype=np.int64)
-        return pd.DataFrame(data, index=pd.RangeIndex(len(self)))
+                data[column.name] = np.frombuffer(numbers, dtype=dtype).copy()
+                self.numbers[column.name] = array(numbers.typecode)
+        data["line"] = np.frombuffer(self.lines, dtype=np.int64).copy()
+        # copy=False: the columns just copied are the frame's own (no second copy).
+        return pd.DataFrame(data, index=pd.RangeIndex(len(self)), copy=False)
 
 
 @dataclass
@@ -923,7 +927,8 @@ def _check_row(
     if table.selector in cells and table.selector not in damaged:
         text = cells[table.selector]
         if text in table.choices:
-            selector_value = text
+            # The schema's own string: a million rows share one object, not a million.
+            selector_value = table.choices[table.choices.index(text)]
         else:
             suggestion = _closest(text, table.choices) if text else None
             hint = f"; did you mean '{suggestion}'?" if suggestion else ""
