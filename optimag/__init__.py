@@ -27,19 +27,23 @@ def load_catalog(folder):
 
 
 def explore(study, *, strategy=None, trials=None, seed=None, storage=None, top: int = 20,
-            catalog=None, progress=None, re_evaluate: bool = False):
+            catalog=None, progress=None, re_evaluate: bool = False, force: bool = False,
+            announce=None):
     """Run what the study asks: its ``[search] strategy`` (or ``strategy``), exhaustive or
     optuna, with ``[custom_core]`` searched by optuna. ``study`` is a Study or a path.
 
     ``trials``, ``seed`` and ``storage`` (SQLAlchemy URL; in memory without it) apply to
     optuna; ``re_evaluate`` re-scores the trials of a storage started under a different
-    study, catalogue or optimag version (which is refused otherwise). Returns an
-    `ExploreResult`; see `optimag.search.run.explore`.
+    study, catalogue or optimag version (which is refused otherwise). An exhaustive search
+    passes its candidate count and estimated peak memory to ``announce`` and refuses a
+    space above the size or memory limit unless ``force``. Returns an `ExploreResult`; see
+    `optimag.search.run.explore`.
     """
     from optimag.search.run import explore as _explore
 
     return _explore(study, catalog, strategy=strategy, trials=trials, seed=seed,
-                    storage=storage, top=top, progress=progress, re_evaluate=re_evaluate)
+                    storage=storage, top=top, progress=progress, re_evaluate=re_evaluate,
+                    force=force, announce=announce)
 
 
 def write_run(result, folder=None, *, overwrite: bool = False):

@@ -209,7 +209,7 @@ def test_space_size_counts_without_building_the_grid(tiny_study_path):
 
 def test_oversized_space_is_refused_before_the_search(tmp_path, capsys):
     """A space above the candidate limit is refused at once (exit 2) with its size and the
-    way out; nothing is evaluated, no run folder is written."""
+    way out; nothing is evaluated, no run is written."""
     from pathlib import Path
 
     from optimag.cli import main
@@ -226,7 +226,7 @@ def test_oversized_space_is_refused_before_the_search(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "candidates" in err and "--force" in err and "estimated peak memory" in err
     assert "Traceback" not in err
-    assert not (tmp_path / "run").exists()
+    assert not (tmp_path / "run" / "run.json").exists()
 
 
 def test_force_runs_a_space_above_the_limit(tiny_study_path, monkeypatch, capsys):
