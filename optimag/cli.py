@@ -241,12 +241,12 @@ def _whole_in(low: int, high: int):
     """An argparse type: a whole number within [low, high]."""
 
     def parse(text: str) -> int:
+        shown = text if len(text) <= 24 else f"{text[:10]}...({len(text)} characters)"
         try:
             value = int(text)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+            raise argparse.ArgumentTypeError(f"'{shown}' is not a whole number") from None
         if not low <= value <= high:
-            shown = text if len(text) <= 24 else f"{text[:10]}...({len(text)} digits)"
             raise argparse.ArgumentTypeError(
                 f"{shown} is out of range; expected {low} to {high}"
             )
