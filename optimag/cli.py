@@ -107,7 +107,7 @@ def _explore(args) -> int:
                 study, catalog=catalog, strategy=strategy, trials=args.trials,
                 seed=args.seed, storage=storage, top=args.top, progress=report,
                 re_evaluate=args.re_evaluate, force=args.force,
-                announce=lambda line: print(line, file=sys.stderr),
+                announce=print,  # the space's size and estimated memory, on stdout
             )
         try:
             run_dir = optimag.write_run(result, out_dir, overwrite=args.overwrite)

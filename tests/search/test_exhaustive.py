@@ -223,9 +223,10 @@ def test_oversized_space_is_refused_before_the_search(tmp_path, capsys):
     study = tmp_path / "big.toml"
     study.write_text(text, encoding="utf-8")
     assert main(["explore", str(study), "--out", str(tmp_path / "run")]) == 2
-    err = capsys.readouterr().err
-    assert "candidates" in err and "--force" in err and "estimated peak memory" in err
-    assert "Traceback" not in err
+    captured = capsys.readouterr()
+    err = captured.err
+    assert "candidates" in err and "--force" in err and "Traceback" not in err
+    assert "estimated peak memory" in captured.out
     assert not (tmp_path / "run" / "run.json").exists()
 
 
