@@ -1247,7 +1247,7 @@ def loss_temperature_fixed_point(
     parts = {name: flat(value) for name, value in context.items()}
     options["heat_offset_W"] = flat(heat_offset_W)
     count = coefficients[0].size
-    table_heat = enclosure_heat_shed(_ENCLOSURE_RISES, float(outside), enclosure)
+    table_heat, table_ok = _enclosure_split(_ENCLOSURE_RISES, float(outside), enclosure)
     # First guess: the inside air heated by the loss at the outside temperature.
     t0 = float(outside)
     air_rise = np.interp(
@@ -1290,6 +1290,10 @@ def loss_temperature_fixed_point(
             break
     # A part whose inside air has not settled is reported as runaway (conservative).
     runaway[active] = True
+    # The box's own correlations, judged at the settled inside air rise (to the table's
+    # resolution).
+    box_ok = np.interp(air_rise, _ENCLOSURE_RISES, table_ok.astype(float)) > 0.5
+    inside &= box_ok | runaway
     inside[active] = True
     temperature = np.where(runaway, RUNAWAY_TEMPERATURE_C, temperature)
     return ThermalEquilibrium(
@@ -1790,29 +1794,42 @@ def enclosure_heat_shed(rise_K: ArrayLike, ambient_C: float, box: Enclosure) -> 
     ----------
     Incropera et al., 6th ed., ch. 9 (correlations as in `face_coefficients`).
     """
+    return _enclosure_split(rise_K, ambient_C, box)[0]
+
+
+def enclosure_inside_range(rise_K: ArrayLike, ambient_C: float, box: Enclosure) -> NDArray:
+    """True where the box's inside and outside correlations are inside their published
+    ranges at an inside air rise (see `enclosure_heat_shed`) [-]."""
+    return _enclosure_split(rise_K, ambient_C, box)[1]
+
+
+def _enclosure_split(rise_K: ArrayLike, ambient_C: float, box: Enclosure):
     side = float(box.volume_m3) ** (1.0 / 3.0)
     rise = np.maximum(np.asarray(rise_K, dtype=float), 0.0)
     area_sides = 4.0 * side * side
     area_top = side * side
 
-    def outside(dt):
-        f = face_coefficients(dt, ambient_C, side, side, side, box.emissivity)
-        return ((f.side_W_m2K + f.radiation_W_m2K) * area_sides
+    def outside(dt, flags=False):
+        f = face_coefficients(dt, ambient_C, side, side, side, box.emissivity, flags=flags)
+        heat = ((f.side_W_m2K + f.radiation_W_m2K) * area_sides
                 + (f.top_W_m2K + f.radiation_W_m2K) * area_top) * dt
+        return heat, f.inside_range
 
-    def inside(dt, wall_C):
-        f = face_coefficients(dt, wall_C, side, side, side, 0.0)
-        return (f.side_W_m2K * area_sides + f.top_W_m2K * area_top) * dt
+    def inside(dt, wall_C, flags=False):
+        f = face_coefficients(dt, wall_C, side, side, side, 0.0, flags=flags)
+        return (f.side_W_m2K * area_sides + f.top_W_m2K * area_top) * dt, f.inside_range
 
     low = np.zeros_like(rise)
     high = rise.copy()
     for _ in range(50):
         wall = 0.5 * (low + high)  # wall rise over the outside air
-        surplus = outside(wall) - inside(rise - wall, ambient_C + wall)
+        surplus = outside(wall)[0] - inside(rise - wall, ambient_C + wall)[0]
         high = np.where(surplus > 0, wall, high)
         low = np.where(surplus > 0, low, wall)
     wall = 0.5 * (low + high)
-    return outside(wall)
+    heat, outer_ok = outside(wall, True)
+    inner_ok = inside(rise - wall, ambient_C + wall, True)[1]
+    return heat, np.asarray(outer_ok & inner_ok)
 
 
 def enclosure_air_rise(heat_W: ArrayLike, ambient_C: float, box: Enclosure) -> FloatArray:

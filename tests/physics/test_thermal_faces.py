@@ -355,3 +355,10 @@ def test_radiation_coefficient_example_1_2():
     assert radiation == pytest.approx(ex["answer_radiation_W_m"], rel=2e-3)
     assert convection == pytest.approx(ex["answer_convection_W_m"], rel=2e-3)
     assert radiation + convection == pytest.approx(ex["answer_total_W_m"], rel=2e-3)
+
+
+def test_enclosure_flags_its_own_correlations():
+    box = th.Enclosure(1e-3, 0.9)
+    flags = th.enclosure_inside_range(np.array([1e-3, 5.0, 30.0]), 30.0, box)
+    # 1 mK inside a 10 cm box: the inside film's Rayleigh number falls below the data.
+    np.testing.assert_array_equal(flags, [False, True, True])
