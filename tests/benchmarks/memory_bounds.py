@@ -31,8 +31,8 @@ DEMO = ROOT / "catalogs" / "demo"
 STUDY = ROOT / "studies" / "cargo-bike-buck.toml"
 
 LENGTH = {"le_mm", "window_breadth_mm", "window_width_mm", "leg_width_mm", "leg_depth_mm",
-          "length_mm", "width_mm", "height_mm"}
-AREA = {"Ae_mm2", "Amin_mm2", "window_area_mm2", "surface_mm2"}
+          "outer_leg_width_mm", "length_mm", "width_mm", "height_mm"}
+AREA = {"Ae_mm2", "Amin_mm2", "window_area_mm2", "outer_leg_area_mm2", "surface_mm2"}
 VOLUME = {"Ve_mm3", "mass_g"}
 
 
@@ -54,6 +54,8 @@ def generate_catalogue(folder: Path, n_cores: int) -> int:
             for name, cell in zip(header, base, strict=True):
                 if name == "id":
                     row.append(f"{cell}-scaled-{i:07d}")
+                elif cell == "":
+                    row.append(cell)  # a column that does not apply to this family
                 elif name in LENGTH or name == "bobbin_wall_mm":
                     row.append(f"{float(cell) * scale:.10g}")
                 elif name in AREA:
