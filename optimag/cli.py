@@ -166,7 +166,7 @@ def _summarise(result, run_dir: Path) -> int:
                         f"{run_dir / 'shortlist.csv'})")
     for col in ("id", "core", "material", "N", "gap mm", "wire", "par", "weighted loss W",
                 "hot spot °C",
-                "vol cm³", "cost"):
+                "vol cm³", "cost", "model flags"):
         table.add_column(col)
     for rec in result.shortlist_records[:5]:
         table.add_row(
@@ -174,7 +174,7 @@ def _summarise(result, run_dir: Path) -> int:
             rec["material"], str(rec["turns"]), f"{rec['gap_mm']:.3f}", rec["wire"],
             str(rec["parallel"]), f"{rec['weighted_loss_W']:.3f}",
             f"{rec['hotspot_temperature_C']:.1f}",
-            f"{rec['volume_cm3']:.2f}", f"{rec['cost']:.2f}",
+            f"{rec['volume_cm3']:.2f}", f"{rec['cost']:.2f}", rec.get("model_flags", ""),
         )
     out.print(table)
     out.print(f"Results: {run_dir} (report.html, shortlist.csv/.xlsx/.json, pareto.csv, run.json)")

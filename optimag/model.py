@@ -39,6 +39,7 @@ CONSTRAINTS = (
     "inductance",
     "saturation",
     "inductance_at_peak",
+    "material_range",
     "window_fit",
     "fill_factor",
     "height",
@@ -48,9 +49,22 @@ CONSTRAINTS = (
     "loss_budget",
     "mass",
 )
-MAGNETIC_CONSTRAINTS = CONSTRAINTS[:3]
-WINDING_CONSTRAINTS = CONSTRAINTS[3:8]
-FINAL_CONSTRAINTS = CONSTRAINTS[8:]
+MAGNETIC_CONSTRAINTS = CONSTRAINTS[:4]
+WINDING_CONSTRAINTS = CONSTRAINTS[4:9]
+FINAL_CONSTRAINTS = CONSTRAINTS[9:]
+
+#: Models a design's figures may rest on outside their declared range, with what that
+#: means. Each stage returns ``outside_<name>`` (n,) bool for the models it runs; records,
+#: exports, report and console read these flags (`model_flag_names`).
+MODEL_FLAGS = {
+    "material_fit": "core loss: the material's Steinmetz fit is used outside the frequency "
+    "or flux range it was fitted on",
+    "gap_model": "gap reluctance: the gap lies outside the chosen fringing model's range",
+    "litz_model": "litz: strands thicker than the skin depth at the switching frequency; "
+    "the strand-level proximity factor underestimates the AC loss",
+    "thermal_model": "temperature: the thermal law is used outside its stated range at the "
+    "settled temperature",
+}
 
 #: Objective name -> metric column.
 OBJECTIVE_COLUMNS = {
@@ -63,6 +77,10 @@ OBJECTIVE_COLUMNS = {
 FAMILY_CODES = {"E": 0, "pot": 1, "toroid": 2}
 MATERIAL_KIND_CODES = {"ferrite": 0, "powder": 1}
 WIRE_KIND_CODES = {"round": 0, "litz": 1, "foil": 2}
+
+#: Copper resistivity at 100 degC, at which the litz strand range is checked (a hot
+#: winding: the skin depth is larger when the copper is hot, so this is the lenient side).
+LITZ_CHECK_RESISTIVITY = float(winding.copper_resistivity(100.0))
 
 #: Temperatures at which winding loss is evaluated; in between it is interpolated
 #: linearly (exact for DC loss, whose resistance is linear in temperature).
@@ -378,6 +396,7 @@ class Requirements:
     max_loss_W: float
     fringing: str
     thermal_model: str
+    outside_fit: str
     labour_per_turn: float
     cooling: Cooling = Cooling()
 
@@ -451,6 +470,7 @@ def build_design_space(study, catalog) -> DesignSpace:
         max_loss_W=_finite_or_inf(limits.max_loss_W),
         fringing=study.model.fringing,
         thermal_model=study.model.thermal,
+        outside_fit=study.model.outside_fit,
         labour_per_turn=float(study.cost.labour_per_turn),
         cooling=Cooling.from_study(study.cooling),
     )
@@ -675,6 +695,19 @@ def magnetic_stage(
         m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=fall,
     )
     core_loss_reference = loss_density * ve[:, None]  # W at temperature factor 1
+
+    # Range of the material's loss fit (sinusoidal peak = half the swing), at every point.
+    fit_excess = coreloss.steinmetz_fit_excess(
+        op.frequency_Hz, b_swing / 2.0, m.f_min_Hz[material][:, None],
+        m.f_max_Hz[material][:, None], m.b_max_T[material][:, None],
+    ).max(axis=1)
+    outside_fit = fit_excess > 0.0
+    if req.outside_fit == "flag":
+        range_violation = np.full(len(n_turns), -1.0)
+    else:
+        range_violation = np.where(outside_fit, fit_excess, -1.0)
+    gap_model = magnetic.GAP_RELUCTANCE_MODELS[req.fringing]
+    outside_gap = (gap > 0) & gap_model.outside_range(gap, geometry)
     return {
         "gap_m": gap,
         "bsat_at_limit_T": bsat_hot,
@@ -695,6 +728,9 @@ def magnetic_stage(
         "violation_inductance": inductance_violation,
         "violation_saturation": saturation_violation,
         "violation_inductance_at_peak": peak_violation,
+        "violation_material_range": range_violation,
+        "outside_material_fit": outside_fit,
+        "outside_gap_model": outside_gap,
     }
 
 
@@ -788,6 +824,9 @@ def winding_layout_stage(
         "violation_height": box_height / req.max_height_m - 1.0,
         "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
         "violation_volume": volume / req.max_volume_m3 - 1.0,
+        "outside_litz_model": (kind == 1) & winding.litz_outside_range(
+            w.strand_diameter_m[wire], space.operating.frequency_Hz, LITZ_CHECK_RESISTIVITY
+        ),
     }
 
 
@@ -1462,3 +1501,10 @@ def temperature_band(space: DesignSpace, candidates: Candidates) -> dict[str, ob
     low = np.where(none, np.nan, low)
     high = np.where(none, np.nan, high)
     return {"low_C": low, "high_C": high, "models": counted, "runaway_models": runaway}
+
+
+def model_flag_names(metrics: dict[str, np.ndarray], i: int) -> list[str]:
+    """Names of `MODEL_FLAGS` raised for row ``i`` of evaluated ``metrics``, in declared
+    order."""
+    return [name for name in MODEL_FLAGS
+            if f"outside_{name}" in metrics and bool(metrics[f"outside_{name}"][i])]

@@ -16,7 +16,6 @@ headers and rounding from here.
 from __future__ import annotations
 
 import math
-import warnings
 from collections.abc import Iterable
 from dataclasses import dataclass
 
@@ -24,8 +23,6 @@ import numpy as np
 import pandas as pd
 
 from optimag import model
-from optimag.errors import ValidityRangeWarning
-from optimag.physics import coreloss, magnetic, winding
 
 SCOPES = ("design", "point", "worst", "weighted", "limit", "text")
 
@@ -257,6 +254,10 @@ register(
     _f("yield_driver", "", "Yield driver",
        "The spread that alone loses the most yield (none: no spread alone loses any)",
        None, "text"),
+    _f("model_flags", "", "Model flags",
+       "Models this design's figures rest on outside their declared range, separated by "
+       "';' (empty: none): " + "; ".join(f"{k} = {v}" for k, v in model.MODEL_FLAGS.items()),
+       None, "text"),
     _f("worst_constraint", "", "Worst constraint",
        "The constraint an infeasible design violates most (normalised)", None, "text"),
     _f("worst_violation", "", "Worst violation",
@@ -270,13 +271,13 @@ PARETO_COLUMNS = [
     "operating_point", "total_loss_W", "core_loss_W", "winding_dc_loss_W",
     "winding_ac_loss_W", "temperature_C", "hotspot_temperature_C", "peak_flux_T",
     "fill_factor", "inductance_uH",
-    "inductance_at_peak_uH", "knee", "yield_fraction",
+    "inductance_at_peak_uH", "knee", "yield_fraction", "model_flags",
 ]
 
 #: Text columns of pareto.csv (read back as strings).
 PARETO_TEXT_COLUMNS = (
     "design_id", "core", "family", "material", "material_kind", "wire", "wire_kind",
-    "operating_point",
+    "operating_point", "model_flags",
 )
 
 #: Flat figures of a record, in the order the short-list tables show them.
@@ -293,7 +294,7 @@ SHORTLIST_COLUMNS = [
     "lead_allowance_mm", "wire_length_m", "copper_mass_g", "box_length_mm", "box_width_mm",
     "box_height_mm", "volume_cm3", "mass_g", "cost", "area_product_cm4",
     "area_product_required_cm4", "geometry_coefficient_cm5",
-    "geometry_coefficient_required_cm5", "yield_fraction", "yield_driver",
+    "geometry_coefficient_required_cm5", "yield_fraction", "yield_driver", "model_flags",
 ]
 
 #: Fields every short-list record carries (shortlist.json).
@@ -717,8 +718,10 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         },
     }
     record["parts"] = parts_list(record)
+    flags = model.model_flag_names(metrics, i)
+    record["model_flags"] = ";".join(flags)
     record["model_notes"] = _model_notes(
-        space, candidates, metrics, i, spread["runaway_models"][i]
+        space, candidates, metrics, i, flags, spread["runaway_models"][i]
     )
     if not record["feasible"]:
         viol = model.violations_matrix({k: v[i : i + 1] for k, v in metrics.items()})[0]
@@ -728,48 +731,33 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
     return record
 
 
-def _model_notes(space, candidates, metrics, i, runaway_models=()) -> list[str]:
-    """Where this design's figures rest on a model used outside its stated range."""
-    m, _c, op = space.materials, space.cores, space.operating
-    mat, _core = candidates.material[i], candidates.core[i]
+def _model_notes(space, candidates, metrics, i, flags: list[str], runaway_models=()
+                 ) -> list[str]:
+    """One sentence per raised model flag (`model.MODEL_FLAGS`), with the figures behind it
+    where they help, and the alternative thermal models that find no stable temperature."""
+    m, op = space.materials, space.operating
+    mat = candidates.material[i]
     notes = []
-    amplitude = metrics["flux_swing_T"][i] / 2
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", ValidityRangeWarning)
-        inside = coreloss.steinmetz_validity_check(
-            op.frequency_Hz, amplitude, m.f_min_Hz[mat], m.f_max_Hz[mat], m.b_max_T[mat],
-        )
-    if not np.all(inside):
-        notes.append(
-            f"core loss: the Steinmetz fit of {m.ids[mat]} holds for "
-            f"{m.f_min_Hz[mat] / 1e3:g}-{m.f_max_Hz[mat] / 1e3:g} kHz and up to "
-            f"{m.b_max_T[mat]:g} T; this design runs at {op.frequency_Hz / 1e3:g} kHz and "
-            f"{float(np.max(amplitude)):.3f} T flux amplitude"
-        )
-    gap = metrics["gap_m"][i]
-    fringing = space.requirements.fringing
-    geometry = model.gap_geometry(
-        space, candidates.core[[i]], candidates.stack[[i]], candidates.gap_option[[i]]
-    )
-    if gap > 0 and np.any(
-        magnetic.GAP_RELUCTANCE_MODELS[fringing].outside_range(np.array([gap]), geometry)
-    ):
-        notes.append(f"gap fringing: a {gap * 1e3:.3g} mm gap is beyond the range of the "
-                     f"{fringing} gap model")
-    if metrics["outside_thermal_model"][i]:
-        notes.append(
-            f"thermal: the {space.requirements.thermal_model} model "
-            f"({model.THERMAL_MODEL_WORDS[space.requirements.thermal_model]}) ran outside a "
-            "correlation's or conduction shape's published range at some operating point; "
-            "the nearest correlation was used"
-        )
+    for name in flags:
+        if name == "material_fit":
+            amplitude = float(np.max(metrics["flux_swing_T"][i]) / 2)
+            notes.append(
+                f"core loss: the Steinmetz fit of {m.ids[mat]} holds for "
+                f"{m.f_min_Hz[mat] / 1e3:g}-{m.f_max_Hz[mat] / 1e3:g} kHz and up to "
+                f"{m.b_max_T[mat]:g} T; this design runs at {op.frequency_Hz / 1e3:g} kHz and "
+                f"{amplitude:.3f} T flux amplitude"
+            )
+        elif name == "thermal_model":
+            notes.append(
+                f"thermal: the {space.requirements.thermal_model} model "
+                f"({model.THERMAL_MODEL_WORDS[space.requirements.thermal_model]}) ran outside "
+                "a correlation's or conduction shape's published range at some operating "
+                "point; the nearest correlation was used"
+            )
+        else:
+            notes.append(model.MODEL_FLAGS[name])
     for name in runaway_models:
         notes.append(f"thermal: the {name} model finds no stable temperature for this design")
-    wire = candidates.wire[i]
-    depth = winding.skin_depth(op.frequency_Hz, winding.copper_resistivity(100.0))
-    if space.wires.kind[wire] == 1 and space.wires.strand_diameter_m[wire] > depth:
-        notes.append("litz: strands thicker than the skin depth at the switching frequency; "
-                     "the strand-level proximity factor underestimates the AC loss")
     return notes
 
 

@@ -21,6 +21,7 @@ __all__ = [
     "igse_coefficient",
     "igse_loss_density_piecewise",
     "igse_loss_density_triangle",
+    "steinmetz_fit_excess",
     "steinmetz_loss_density",
     "steinmetz_validity_check",
 ]
@@ -338,6 +339,50 @@ def core_loss_temperature_factor(
     return np.maximum(factor, minimum)
 
 
+def steinmetz_fit_excess(
+    frequency_Hz: npt.ArrayLike,
+    b_peak_T: npt.ArrayLike,
+    f_min_Hz: npt.ArrayLike,
+    f_max_Hz: npt.ArrayLike,
+    b_max_T: npt.ArrayLike,
+) -> FloatArray:
+    """How far a point lies outside the range a set of Steinmetz coefficients was fitted on.
+
+    Parameters
+    ----------
+    frequency_Hz : array_like
+        Operating frequency, > 0 [Hz].
+    b_peak_T : array_like
+        Peak flux density of the excitation (half the peak-to-peak swing; magnitude
+        used) [T].
+    f_min_Hz, f_max_Hz : array_like
+        Frequency range of the fit [Hz].
+    b_max_T : array_like
+        Highest peak flux density of the fit, > 0 [T].
+
+    Returns
+    -------
+    ndarray
+        ``max(f_min / f - 1, f / f_max - 1, |B| / B_max - 1)`` [1]: <= 0 inside the fit,
+        > 0 outside, by the relative distance to the nearest violated bound.
+
+    Notes
+    -----
+    This is the single statement of the fit's range; `steinmetz_validity_check` and the
+    model's ``material_range`` constraint read it.
+
+    References
+    ----------
+    .. [1] C. P. Steinmetz, "On the law of hysteresis", Transactions of the AIEE,
+       vol. 9, pp. 1-64, 1892 (a power law is a local fit only).
+    """
+    frequency = np.asarray(frequency_Hz, dtype=float)
+    return np.maximum(
+        np.maximum(np.asarray(f_min_Hz) / frequency - 1.0, frequency / np.asarray(f_max_Hz) - 1.0),
+        np.abs(b_peak_T) / np.asarray(b_max_T) - 1.0,
+    )
+
+
 def steinmetz_validity_check(
     frequency_Hz: npt.ArrayLike,
     b_peak_T: npt.ArrayLike,
@@ -375,11 +420,6 @@ def steinmetz_validity_check(
     .. [1] C. P. Steinmetz, "On the law of hysteresis", Transactions of the AIEE,
        vol. 9, pp. 1-64, 1892 (a power law is a local fit only).
     """
-    frequency = np.asarray(frequency_Hz, dtype=float)
-    inside = (
-        (frequency >= np.asarray(f_min_Hz))
-        & (frequency <= np.asarray(f_max_Hz))
-        & (np.abs(b_peak_T) <= np.asarray(b_max_T))
-    )
+    inside = steinmetz_fit_excess(frequency_Hz, b_peak_T, f_min_Hz, f_max_Hz, b_max_T) <= 0.0
     _warn_if(~inside, "Steinmetz coefficients used outside their fitted range")
     return inside

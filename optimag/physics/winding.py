@@ -322,6 +322,25 @@ def equivalent_foil_delta(
     return side / np.asarray(skin_depth_m) * np.sqrt(porosity)
 
 
+def litz_outside_range(
+    strand_diameter_m: ArrayLike, frequency_Hz: ArrayLike, resistivity_ohm_m: ArrayLike
+) -> NDArray[np.bool_]:
+    """True where litz strands are thicker than the skin depth, beyond the low-frequency
+    strand model of `litz_factor` (Sullivan).
+
+    Parameters
+    ----------
+    strand_diameter_m : array_like  Bare strand diameter [m]
+    frequency_Hz : array_like  Frequency [Hz]
+    resistivity_ohm_m : array_like  Copper resistivity [ohm m]
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    return np.asarray(strand_diameter_m) > skin_depth(frequency_Hz, resistivity_ohm_m)
+
+
 def litz_factor(
     strands: ArrayLike,
     turns: ArrayLike,

@@ -80,6 +80,7 @@ CONSTRAINT_MEANING: dict[str, str] = {
     "inductance": "target inductance not reachable within its tolerance",
     "saturation": "peak flux density above the allowed share of saturation",
     "inductance_at_peak": "too much inductance lost at peak current",
+    "material_range": "material used outside the frequency or flux range of its loss fit",
     "window_fit": "winding does not fit the window",
     "fill_factor": "window fill above the allowed fill factor",
     "height": "taller than the allowed height",

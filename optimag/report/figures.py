@@ -80,14 +80,22 @@ def _groups(front: pd.DataFrame) -> list[tuple[str, str, pd.DataFrame]]:
     ]
 
 
+def flagged_rows(front: pd.DataFrame) -> pd.DataFrame:
+    """Front designs whose figures rest on a model outside its range (`model_flags`)."""
+    if "model_flags" not in front:
+        return front.iloc[0:0]
+    return front[front["model_flags"].fillna("").astype(str) != ""]
+
+
 def tradeoff_pair_figure(
     front: pd.DataFrame, view: PairView, currency: str, hand: pd.DataFrame | None = None
 ) -> go.Figure:
     """Front designs in one objective pair: colour = material, symbol = core family.
 
     The dotted staircase joins the designs that stay non-dominated in this pair; the
-    knee design wears an ochre ring. ``hand``: designs of the hand procedure that meet
-    every limit, drawn as crosses.
+    knee design wears an ochre ring; a design with a raised model flag wears an open
+    square. ``hand``: designs of the hand procedure that meet every limit, drawn as
+    crosses.
     """
     colours = style.material_colour_map(list(front["material"]))
     traces: list[Any] = []
@@ -122,6 +130,20 @@ def tradeoff_pair_figure(
             )
         )
     traces.extend(_yield_labels(front, view))
+    flagged = flagged_rows(front)
+    if len(flagged):
+        traces.append(
+            go.Scatter(
+                x=flagged[view.x_column],
+                y=flagged[view.y_column],
+                mode="markers",
+                name="outside a model's range",
+                marker={"symbol": "square-open", "size": 20, "color": style.SLATE,
+                        "line": {"width": 1.5, "color": style.SLATE}},
+                customdata=_hover_data(flagged, currency),
+                hovertemplate=_HOVER,
+            )
+        )
     knee = front[front["knee"]]
     if len(knee):
         traces.append(
@@ -213,6 +235,20 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
                     "line": {"color": style.PANEL, "width": 0.5},
                 },
                 customdata=_hover_data(rows, currency),
+                hovertemplate=_HOVER,
+            )
+        )
+    flagged = flagged_rows(front)
+    if len(flagged):
+        traces.append(
+            go.Scatter3d(
+                x=flagged[columns[0]],
+                y=flagged[columns[1]],
+                z=flagged[columns[2]],
+                mode="markers",
+                name="outside a model's range",
+                marker={"symbol": "square-open", "size": 11, "color": style.SLATE},
+                customdata=_hover_data(flagged, currency),
                 hovertemplate=_HOVER,
             )
         )

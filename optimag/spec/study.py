@@ -260,6 +260,9 @@ class ModelChoices(_Section):
 
     fringing: Literal["leg_edges", "mclyman", "muhlethaler", "ideal"] = "leg_edges"
     thermal: Literal["faces", "convection", "mclyman", "ferrite_rth"] = "faces"
+    #: A material used outside its loss fit (frequency or flux): "exclude" eliminates the
+    #: design (counted as ``material_range``); "flag" keeps it, marked in every output.
+    outside_fit: Literal["exclude", "flag"] = "exclude"
 
 
 

@@ -101,7 +101,7 @@ def build_space() -> model.DesignSpace:
         max_temperature_C=110.0, max_height_m=0.03, max_footprint_m2=np.inf,
         max_volume_m3=np.inf, max_mass_kg=np.inf, flux_margin=0.8,
         max_fill_factor=0.5, max_loss_W=np.inf, fringing="mclyman",
-        thermal_model="faces", labour_per_turn=0.02,
+        thermal_model="faces", outside_fit="flag", labour_per_turn=0.02,
     )
     return model.DesignSpace(
         cores=model.CoreArrays.from_frame(random_cores(40)),

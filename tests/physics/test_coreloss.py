@@ -245,3 +245,20 @@ def test_property_piecewise_finite_and_invariant_to_period_start(flux, steps, sh
         beta,
     )
     assert rolled == pytest.approx(loss, rel=1e-9, abs=1e-300)
+
+
+def test_steinmetz_fit_excess_is_the_relative_distance_outside_the_fit():
+    """The fit's range (f_min..f_max, |B| <= B_max) stated once: inside <= 0, outside > 0
+    by the nearest violated bound's relative distance (a power law is a local fit only,
+    Steinmetz 1892)."""
+    f_min, f_max, b_max = 25e3, 150e3, 0.3
+    excess = cl.steinmetz_fit_excess(
+        np.array([100e3, 25e3, 150e3, 300e3, 12.5e3, 100e3, 100e3]),
+        np.array([0.1, 0.3, -0.3, 0.1, 0.1, 0.45, -0.6]), f_min, f_max, b_max,
+    )
+    np.testing.assert_allclose(
+        excess, [max(0.25 - 1, 100 / 150 - 1, 0.1 / 0.3 - 1), 0.0, 0.0, 1.0, 1.0, 0.5, 1.0]
+    )
+    with pytest.warns(ValidityRangeWarning):
+        inside = cl.steinmetz_validity_check(100e3, [0.1, 0.31], f_min, f_max, b_max)
+    assert inside.tolist() == [True, False]

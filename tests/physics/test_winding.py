@@ -430,3 +430,12 @@ def test_winding_loss_split_on_arrays():
     # One candidate: 0.1 Ohm, 4 A DC, one 1 A harmonic at F_R = 2 -> 1.6 W + 0.1 W.
     dc_one, ac_one = w.winding_loss_split(0.1, 4.0, [1.0], [2.0])
     assert (dc_one, ac_one) == pytest.approx((1.6, 0.1))
+
+
+def test_litz_outside_range_when_strands_exceed_the_skin_depth():
+    """Sullivan's strand model holds for strands thin against the skin depth
+    delta = sqrt(rho / (pi f mu0)) (standard skin-depth formula)."""
+    rho, f = 1.72e-8, 100e3
+    delta = math.sqrt(rho / (math.pi * f * 4e-7 * math.pi))
+    flags = w.litz_outside_range(np.array([0.9, 1.1]) * delta, f, rho)
+    assert flags.tolist() == [False, True]

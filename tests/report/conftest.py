@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from optimag import records
+from optimag import model, records
 
 #: Would mark the page if it ever ran; the browser test looks for the attribute.
 PWN_IMG = "<img src=x onerror=\"document.body.setAttribute('data-pwned','img')\">"
@@ -275,7 +275,10 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
             "inductance_uH": [round(float(v), 5) for v in curve],
         },
         "winding": winding,
-        "model_notes": [],
+        # One front design rests on a material outside its loss fit (study with
+        # outside_fit = "flag"), so the marks for flagged designs are drawn.
+        "model_flags": "material_fit" if index == 2 else "",
+        "model_notes": [model.MODEL_FLAGS["material_fit"]] if index == 2 else [],
     }
     record["parts"] = records.parts_list(record)
     record.update(_yield_fields(rng, at_peak, hottest["temperature_C"]))
