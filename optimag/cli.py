@@ -195,6 +195,29 @@ def _report(args) -> int:
     return 0
 
 
+def _fit_material(args) -> int:
+    from optimag.catalog import fit_material as fm
+
+    path = Path(args.points)
+    points = fm.read_points(path)
+    fit = fm.fit_material(points, source=str(path))
+    print(fm.error_table(points, fit))
+    low, high = fit.temperature_range_C
+    print(f"Fitted on {fit.f_min_kHz:g}-{fit.f_max_kHz:g} kHz, peak flux up to "
+          f"{fit.b_max_T:g} T, {low:g}-{high:g} °C"
+          + (f", DC field up to {max(fit.bias_h_A_m):g} A/m" if fit.bias_h_A_m else "")
+          + ". Outside these ranges the row is an extrapolation.")
+    print("Not given by loss data, fill from the datasheet before use: "
+          + ", ".join(fm.NOT_FROM_LOSS_DATA))
+    text = fm.material_row(fit, args.name or path.stem)
+    if args.out:
+        fm.write_new_file(Path(args.out), text)
+        print(f"Material row: {args.out}")
+    else:
+        print(text, end="")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="optimag", description="Power-inductor design search for switch-mode converters."
@@ -232,6 +255,13 @@ def build_parser() -> argparse.ArgumentParser:
                         help="stop when the study has this many complete trials "
                              "(default: the target of the run that created it)")
     worker.add_argument("--batch-size", type=_batch, help="trials asked at once")
+    fit = commands.add_parser(
+        "fit-material", help="fit a materials.csv row to measured loss-density points")
+    fit.add_argument("points", help="CSV with frequency_kHz, peak_flux_T, temperature_C, "
+                                    "loss_density_kW_m3 and optionally dc_field_A_m")
+    fit.add_argument("--name", help="material id (default: the points file's name)")
+    fit.add_argument("--out", help="write the header and row to this new file "
+                                   "(default: print them)")
     report = commands.add_parser("report", help="rebuild report.html of a run folder")
     report.add_argument("run_dir", help="a run folder written by explore")
     return parser
@@ -298,6 +328,8 @@ def _dispatch(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
         return _explore(args)
     if args.command == "report":
         return _report(args)
+    if args.command == "fit-material":
+        return _fit_material(args)
     if args.command == "worker":
         from optimag.search.optuna_search import worker_command
 
