@@ -60,6 +60,8 @@ MODEL_FLAGS = {
     "material_fit": "core loss: the material's Steinmetz fit is used outside the frequency "
     "or flux range it was fitted on",
     "gap_model": "gap reluctance: the gap lies outside the chosen fringing model's range",
+    "bias_table": "core loss: the DC field exceeds the material's premagnetisation table; "
+    "its last factor is used",
     "litz_model": "litz: strands thicker than the skin depth at the switching frequency; "
     "the strand-level proximity factor underestimates the AC loss",
     "thermal_model": "temperature: the thermal law is used outside its stated range at the "
@@ -198,6 +200,9 @@ class MaterialArrays:
     rolloff_c: np.ndarray
     density: np.ndarray
     price_factor: np.ndarray
+    relax: np.ndarray  # (n, 5) k_r, alpha_r, beta_r, tau_s, q_r; NaN row: no parameters
+    bias_h_A_m: np.ndarray  # (n, 3) premagnetisation table fields; NaN: no point
+    bias_factor: np.ndarray  # (n, 3) loss multipliers at those fields
 
     @classmethod
     def from_frame(cls, materials: pd.DataFrame) -> MaterialArrays:
@@ -225,7 +230,28 @@ class MaterialArrays:
             rolloff_c=_optional(materials, "rolloff_c", 1.0),
             density=materials["density_kg_m3"].astype(float).to_numpy(),
             price_factor=materials["price_factor"].astype(float).to_numpy(),
+            relax=np.column_stack([
+                _optional(materials, "relax_k", np.nan),
+                _optional(materials, "relax_alpha", np.nan),
+                _optional(materials, "relax_beta", np.nan),
+                _optional(materials, "relax_tau_us", np.nan) * 1e-6,
+                _optional(materials, "relax_q", np.nan),
+            ]).reshape(len(materials), 5),
+            bias_h_A_m=np.column_stack(
+                [_optional(materials, f"bias_H{j}_A_m", np.nan) for j in (1, 2, 3)]
+            ).reshape(len(materials), 3),
+            bias_factor=np.column_stack(
+                [_optional(materials, f"bias_factor{j}", np.nan) for j in (1, 2, 3)]
+            ).reshape(len(materials), 3),
         )
+
+    @property
+    def has_relaxation(self) -> np.ndarray:
+        return np.all(np.isfinite(self.relax), axis=1)
+
+    @property
+    def has_bias_table(self) -> np.ndarray:
+        return np.isfinite(self.bias_h_A_m[:, 0])
 
 
 @dataclass(frozen=True)
@@ -653,7 +679,14 @@ def magnetic_stage(
     dcm, rise, fall = shape.dcm, shape.rise_fraction, shape.fall_fraction
     peak, valley = shape.peak_A, np.maximum(shape.valley_A, 0.0)
     ripple = shape.ripple_pp_A
-    harmonics = pulse_harmonics(ripple, rise, fall, op.harmonics_A.shape[1])
+    # Harmonics of the design's own current, needed only where it is discontinuous (a CCM
+    # triangle's shape is fixed by the duty ratio; see `winding_ac_loss`).
+    harmonics = np.zeros((*dcm.shape, op.harmonics_A.shape[1]))
+    where_dcm = np.nonzero(dcm)
+    if where_dcm[0].size:
+        harmonics[where_dcm] = pulse_harmonics(
+            ripple[where_dcm], rise[where_dcm], fall[where_dcm], op.harmonics_A.shape[1]
+        )
 
     # Flux: linear (ferrite) core B = L i / (N A); powder from its roll-off law.
     h_peak = n_turns[:, None] * peak / le[:, None]
@@ -694,7 +727,31 @@ def magnetic_stage(
         op.frequency_Hz, b_swing, rise, m.k[material][:, None],
         m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=fall,
     )
-    core_loss_reference = loss_density * ve[:, None]  # W at temperature factor 1
+    # i²GSE: relaxation in the still (zero-current) interval of a DCM period, for
+    # materials with relaxation parameters (Mühlethaler et al. 2012).
+    relax = m.relax[material]
+    has_relax = m.has_relaxation[material]
+    relax_density = np.where(has_relax[:, None], coreloss.relaxation_loss_density(
+        op.frequency_Hz, b_swing, rise, fall,
+        *(np.where(has_relax, relax[:, j], 1.0)[:, None] for j in range(5)),
+    ), 0.0)
+    # DC bias: the premagnetisation table's loss multiplier at H_dc = N I_dc / le.
+    h_dc = n_turns[:, None] * dc / le[:, None]
+    has_bias = m.has_bias_table[material]
+    table_h = np.where(np.isfinite(m.bias_h_A_m[material]), m.bias_h_A_m[material],
+                       np.inf)
+    table_f = np.where(np.isfinite(m.bias_factor[material]), m.bias_factor[material],
+                       np.nan)
+    # Unused table points repeat the last filled one (held beyond the table).
+    for j in (1, 2):
+        table_f[:, j] = np.where(np.isfinite(table_f[:, j]), table_f[:, j], table_f[:, j - 1])
+        table_h[:, j] = np.where(np.isfinite(table_h[:, j]), table_h[:, j],
+                                 table_h[:, j - 1] * (1 + 1e-9) + 1e-9)
+    table_h = np.where(has_bias[:, None], table_h, np.array([1.0, 2.0, 3.0]))
+    table_f = np.where(has_bias[:, None], table_f, 1.0)
+    bias, beyond = coreloss.dc_bias_factor(h_dc, table_h, table_f)
+    bias = np.where(has_bias[:, None], bias, 1.0)
+    core_loss_reference = (loss_density + relax_density) * bias * ve[:, None]
 
     # Range of the material's loss fit (sinusoidal peak = half the swing), at every point.
     fit_excess = coreloss.steinmetz_fit_excess(
@@ -730,6 +787,9 @@ def magnetic_stage(
         "violation_inductance_at_peak": peak_violation,
         "violation_material_range": range_violation,
         "outside_material_fit": outside_fit,
+        "outside_bias_table": has_bias & np.any(beyond, axis=1),
+        "relaxation_W": relax_density * bias * ve[:, None],
+        "dc_field_A_m": h_dc,
         "outside_gap_model": outside_gap,
     }
 

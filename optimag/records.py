@@ -758,6 +758,19 @@ def _model_notes(space, candidates, metrics, i, flags: list[str], runaway_models
             notes.append(model.MODEL_FLAGS[name])
     for name in runaway_models:
         notes.append(f"thermal: the {name} model finds no stable temperature for this design")
+    idle = 1.0 - metrics["rise_fraction"][i] - metrics["fall_fraction"][i]
+    if np.any(idle > 1e-9) and not m.has_relaxation[mat]:
+        notes.append(
+            "core loss: relaxation during the zero-current interval (i²GSE) is not included: "
+            f"{m.ids[mat]} has no relaxation parameters"
+        )
+    h_dc = float(np.max(metrics["dc_field_A_m"][i]))
+    if h_dc > 0 and not m.has_bias_table[mat]:
+        notes.append(
+            f"core loss: this design runs at up to {h_dc:.3g} A/m DC field, outside what the "
+            f"loss fit of {m.ids[mat]} covers (fitted without bias; no premagnetisation "
+            "table), and ferrite loss rises with DC bias"
+        )
     return notes
 
 

@@ -75,6 +75,7 @@ class Column:
     lower_inclusive, upper_inclusive : whether the bound itself is allowed
     required_for : families/kinds whose rows must fill this cell (None = all)
     allowed_for : families/kinds whose rows may fill this cell (None = all)
+    optional : the column may be left out of the header (its cells then read as empty)
     """
 
     name: str
@@ -86,6 +87,7 @@ class Column:
     upper_inclusive: bool = False
     required_for: frozenset[str] | None = None
     allowed_for: frozenset[str] | None = None
+    optional: bool = False
 
     def is_required(self, selector_value: str | None) -> bool:
         if self.required_for is None:
@@ -406,6 +408,66 @@ def _check_material_temperature_factor(row: RowValues) -> list[tuple[str, str]]:
     ]
 
 
+#: Optional materials.csv columns: the i²GSE relaxation parameters (all or none) and a
+#: premagnetisation (DC-bias) loss-factor table of up to three points.
+RELAXATION_COLUMNS = ("relax_k", "relax_alpha", "relax_beta", "relax_tau_us", "relax_q")
+BIAS_TABLE_COLUMNS = tuple(
+    name for j in (1, 2, 3) for name in (f"bias_H{j}_A_m", f"bias_factor{j}")
+)
+
+
+def _optional_loss_columns() -> tuple[Column, ...]:
+    never = frozenset()
+    words = {
+        "relax_k": "i²GSE relaxation coefficient k_r, energy in J/m³ with dB/dt in T/s "
+                   "[J/m³]",
+        "relax_alpha": "i²GSE relaxation exponent of |dB/dt| [1]",
+        "relax_beta": "i²GSE relaxation exponent of the flux swing [1]",
+        "relax_tau_us": "i²GSE relaxation time constant [µs]",
+        "relax_q": "i²GSE weight q_r of the slope ratio [1]",
+    }
+    columns = [
+        Column(name, "float", words[name], lower=0.0, lower_inclusive=name == "relax_q",
+               required_for=never, optional=True)
+        for name in RELAXATION_COLUMNS
+    ]
+    for j in (1, 2, 3):
+        columns.append(Column(f"bias_H{j}_A_m", "float",
+                              f"DC field of premagnetisation table point {j} [A/m]",
+                              lower=0.0, required_for=never, optional=True))
+        columns.append(Column(f"bias_factor{j}", "float",
+                              f"core-loss multiplier at bias_H{j}_A_m (1 at zero field) [1]",
+                              lower=0.0, required_for=never, optional=True))
+    return tuple(columns)
+
+
+def _check_material_optional_groups(row: RowValues) -> list[tuple[str, str]]:
+    found: list[tuple[str, str]] = []
+    given = [name for name in RELAXATION_COLUMNS if row.get(name) is not None]
+    if given and len(given) < len(RELAXATION_COLUMNS):
+        absent = [name for name in RELAXATION_COLUMNS if name not in given]
+        found.append((absent[0], "the relaxation parameters go together: fill "
+                                 f"{', '.join(RELAXATION_COLUMNS)} or none"))
+    last_h = 0.0
+    ended = False
+    for j in (1, 2, 3):
+        h, factor = row.get(f"bias_H{j}_A_m"), row.get(f"bias_factor{j}")
+        if (h is None) != (factor is None):
+            found.append((f"bias_factor{j}" if factor is None else f"bias_H{j}_A_m",
+                          f"bias_H{j}_A_m and bias_factor{j} go together"))
+        elif h is not None:
+            if ended:
+                found.append((f"bias_H{j}_A_m", f"table point {j} follows an empty one; "
+                                                "fill the points from 1 on"))
+            elif float(h) <= last_h:
+                found.append((f"bias_H{j}_A_m", f"bias_H{j}_A_m = {h:g} must be above the "
+                                                f"previous point's field ({last_h:g})"))
+            last_h = float(h)
+        else:
+            ended = True
+    return found
+
+
 # --- wires -----------------------------------------------------------------------------
 
 
@@ -585,6 +647,7 @@ MATERIALS = Table(
             required_for=_POWDER,
             allowed_for=_POWDER,
         ),
+        *_optional_loss_columns(),
         _ranged("density_kg_m3", "material density [kg/m³]", R.DENSITY_KG_M3),
         _ranged("price_factor", "multiplier on the core-set price [1]", R.PRICE_FACTOR),
     ),
@@ -592,6 +655,7 @@ MATERIALS = Table(
         _check_material_saturation,
         _check_material_frequency_range,
         _check_material_temperature_factor,
+        _check_material_optional_groups,
     ),
 )
 
@@ -833,7 +897,10 @@ def _check_header(
             positions[name] = position
         else:
             unknown.append((position, name))
-    missing = [name for name in table.column_names if name not in positions]
+    optional = {c.name for c in table.columns if c.optional}
+    missing = [
+        name for name in table.column_names if name not in positions and name not in optional
+    ]
     explained: set[str] = set()
     for _position, name in unknown:
         suggestion = _closest(name, table.column_names)
