@@ -426,18 +426,23 @@ def _optional_loss_columns() -> tuple[Column, ...]:
         "relax_tau_us": "i²GSE relaxation time constant [µs]",
         "relax_q": "i²GSE weight q_r of the slope ratio [1]",
     }
+    # Plausible upper bounds, far beyond any published fit (common practice, no source).
+    upper = {"relax_k": 1e12, "relax_alpha": 5.0, "relax_beta": 5.0, "relax_tau_us": 1e4,
+             "relax_q": 100.0}
     columns = [
         Column(name, "float", words[name], lower=0.0, lower_inclusive=name == "relax_q",
-               required_for=never, optional=True)
+               upper=upper[name], upper_inclusive=True, required_for=never, optional=True)
         for name in RELAXATION_COLUMNS
     ]
     for j in (1, 2, 3):
         columns.append(Column(f"bias_H{j}_A_m", "float",
                               f"DC field of premagnetisation table point {j} [A/m]",
-                              lower=0.0, required_for=never, optional=True))
+                              lower=0.0, upper=1e5, upper_inclusive=True, required_for=never,
+                              optional=True))
         columns.append(Column(f"bias_factor{j}", "float",
                               f"core-loss multiplier at bias_H{j}_A_m (1 at zero field) [1]",
-                              lower=0.0, required_for=never, optional=True))
+                              lower=0.0, upper=100.0, upper_inclusive=True,
+                              required_for=never, optional=True))
     return tuple(columns)
 
 
