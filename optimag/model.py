@@ -1359,6 +1359,7 @@ def area_product_required_m4(space: DesignSpace, material: np.ndarray) -> np.nda
     )
 
 
+@_quiet
 def saturation_limits(space: DesignSpace, material: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Bsat at the temperature limit [T] and the allowed peak flux density [T] (the flux
     margin times that Bsat), which the saturation constraint checks the peak flux on Amin
@@ -1370,6 +1371,7 @@ def saturation_limits(space: DesignSpace, material: np.ndarray) -> tuple[np.ndar
     return bsat, req.flux_margin * bsat
 
 
+@_quiet
 def design_details(
     space: DesignSpace, candidates: Candidates, metrics: dict[str, np.ndarray]
 ) -> dict[str, np.ndarray]:
@@ -1419,6 +1421,7 @@ def design_details(
     }
 
 
+@_quiet
 def inductance_curve(
     space: DesignSpace,
     candidates: Candidates,
