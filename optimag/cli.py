@@ -5,11 +5,33 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import tempfile
 import time
+import tomllib
 from pathlib import Path
 
+from optimag import __version__
 from optimag.errors import InputError, Problem, RunFolderError, StorageError
 from optimag.ranges import BATCH, SEED, TRIALS
+
+#: Shown under `optimag --help`.
+EXAMPLES = """examples:
+  optimag init my-buck --topology buck      write a commented starting study my-buck.toml
+  optimag check my-buck.toml                validate it (and list the defaults applied)
+  optimag explore my-buck.toml              search it; results in runs/my-buck-<time>/
+  optimag explore studies/cargo-bike-buck.toml --top 10 --out runs/demo
+  optimag explore studies/custom-core-buck.toml --strategy optuna --trials 3000 --seed 7
+  optimag report runs/demo                  rebuild report.html of a run folder
+  optimag check catalogs/demo               validate a catalogue folder
+
+Every study key, its unit, default and range: studies/REFERENCE.md.
+"""
+
+#: Optional tables that `check` summarises in one line when the study leaves them out.
+SUMMARISED_SECTIONS = ("tolerance",)
+
+#: search keys that only the optuna strategy reads.
+OPTUNA_ONLY_KEYS = ("search.trials", "search.seed", "search.sampler", "search.batch_size")
 
 
 def _print_problems(problems: list[Problem]) -> None:
@@ -45,11 +67,101 @@ def _check(path_text: str) -> int:
         f"{len(catalog.cores)} cores, {len(catalog.materials)} materials, "
         f"{len(catalog.wires)} wires"
     )
+    for line in _defaults_lines(study):
+        print(line)
     return 0
 
 
 #: Exit codes of the `optimag` command.
 EXIT_OK, EXIT_INFEASIBLE, EXIT_REFUSED, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
+
+
+def _defaults_lines(study) -> list[str]:
+    """What `check` says about the keys the study leaves out."""
+    from optimag.spec import applied_defaults
+    from optimag.spec.reference import toml_value, unit_of
+
+    applied, unset = [], []
+    document = tomllib.loads(study.source_text) if study.source_text else {}
+    summarised = [name for name in SUMMARISED_SECTIONS if name not in document]
+    for key, value in applied_defaults(study):
+        if key.partition(".")[0] in summarised:
+            continue
+        if study.search.strategy != "optuna" and key in OPTUNA_ONLY_KEYS:
+            continue
+        if key == "search.gap_grid_mm" and study.search.gap != "grid":
+            continue
+        if value is None:
+            unset.append(key)
+            continue
+        section, _, name = key.partition(".")
+        unit = unit_of(section, name)
+        shown = toml_value(value)
+        if unit not in ("-", "currency") and not isinstance(value, str):
+            shown += f" {unit}"
+        if key == "inductor.ripple_point":
+            shown += " (the point that needs the largest inductance)"
+        applied.append(f"  {key} = {shown}")
+    applied += [f"  [{name}]: every key at its default (see studies/REFERENCE.md)"
+                for name in summarised]
+    lines = []
+    if applied:
+        lines += ["Defaults applied (keys not in the file):", *applied]
+    if unset:
+        lines.append("Not set (no limit, or the whole catalogue): " + ", ".join(unset))
+    return lines
+
+
+def _init(args) -> int:
+    from optimag.spec.template import study_slug, study_template
+
+    target = Path(args.name if args.name.endswith(".toml") else f"{args.name}.toml")
+    name = study_slug(target.stem)
+    if not name:
+        print(f"{args.name}: give a name made of letters, digits or '-'", file=sys.stderr)
+        return EXIT_REFUSED
+    if os.path.lexists(target):
+        print(f"{target}: already exists; not overwritten (choose another name)",
+              file=sys.stderr)
+        return EXIT_REFUSED
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        print(f"{folder}: folder does not exist", file=sys.stderr)
+        return EXIT_REFUSED
+    catalog = Path(args.catalog) if args.catalog else _demo_catalog()
+    if catalog is None or not catalog.is_dir():
+        shown = args.catalog or "the demo catalogue (catalogs/demo)"
+        print(f"{shown}: catalogue folder not found; give one with --catalog FOLDER",
+              file=sys.stderr)
+        return EXIT_REFUSED
+    try:
+        reference = Path(os.path.relpath(catalog.resolve(), folder.resolve())).as_posix()
+    except ValueError:  # another drive
+        reference = catalog.resolve().as_posix()
+    text = study_template(name, args.topology, reference)
+    _write_new_file(target, text)
+    print(f"Wrote {target} ({args.topology}, study '{name}', catalogue {reference}). "
+          f"Next: optimag check {target}")
+    return 0
+
+
+def _demo_catalog() -> Path | None:
+    folder = Path(__file__).resolve().parents[1] / "catalogs" / "demo"
+    return folder if folder.is_dir() else None
+
+
+def _write_new_file(target: Path, text: str) -> None:
+    """Write ``text`` to a new file at ``target``: a temporary file in the same folder,
+    then a hard link under the final name, which fails instead of replacing anything that
+    appeared meanwhile (a file or a symlink)."""
+    handle, temp = tempfile.mkstemp(dir=target.parent if str(target.parent) else ".",
+                                    prefix=f".{target.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(handle, "w", encoding="utf-8", newline="\n") as out:
+            out.write(text)
+        os.link(temp, target)
+    finally:
+        Path(temp).unlink(missing_ok=True)
 
 
 def _explore(args) -> int:
@@ -220,9 +332,19 @@ def _fit_material(args) -> int:
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
-        prog="optimag", description="Power-inductor design search for switch-mode converters."
+        prog="optimag", description="Power-inductor design search for switch-mode converters.",
+        epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter,
     )
+    parser.add_argument("--version", action="version", version=f"optimag {__version__}")
     commands = parser.add_subparsers(dest="command", required=True)
+    init = commands.add_parser(
+        "init", help="write a commented starting study NAME.toml",
+        epilog="example: optimag init my-boost --topology boost",
+    )
+    init.add_argument("name", help="study name, or the .toml file to write")
+    init.add_argument("--topology", choices=["buck", "boost", "buck-boost"], default="buck",
+                      help="converter topology (default buck)")
+    init.add_argument("--catalog", help="catalogue folder (default: the demo catalogue)")
     check = commands.add_parser("check", help="validate a study file or a catalogue folder")
     check.add_argument("path", help="a study .toml file or a catalogue folder")
     explore = commands.add_parser("explore", help="search the design space of a study")
@@ -322,6 +444,8 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def _dispatch(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
+    if args.command == "init":
+        return _init(args)
     if args.command == "check":
         return _check(args.path)
     if args.command == "explore":

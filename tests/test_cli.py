@@ -88,3 +88,70 @@ def test_bad_study_gives_problems_not_traceback(tmp_path):
     assert done.returncode == 2
     assert "Traceback" not in done.stderr
     assert "topology" in done.stderr
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("topology", ["buck", "boost", "buck-boost"])
+def test_init_check_explore_for_each_topology(tmp_path, topology):
+    made = optimag("init", f"my-{topology}", "--topology", topology, cwd=tmp_path)
+    assert made.returncode == 0, made.stderr
+    study = tmp_path / f"my-{topology}.toml"
+    text = study.read_text(encoding="utf-8")
+    assert f'topology = "{topology}"' in text and text.count("#") > 20  # commented
+    checked = optimag("check", study.name, cwd=tmp_path)
+    assert checked.returncode == 0, checked.stderr
+    assert checked.stdout.startswith("OK")
+    assert "Defaults applied" in checked.stdout and "Not set" in checked.stdout
+    out = tmp_path / "run"
+    explored = optimag("explore", study.name, "--out", str(out), cwd=tmp_path)
+    assert explored.returncode == 0, explored.stderr + explored.stdout
+    shortlist = pd.read_csv(out / "shortlist.csv")
+    assert len(shortlist) > 0
+    assert json.loads((out / "run.json").read_text())["study_name"] == f"my-{topology}"
+
+
+def test_init_refuses_to_overwrite(tmp_path):
+    existing = tmp_path / "taken.toml"
+    existing.write_text("keep me", encoding="utf-8")
+    done = optimag("init", "taken", cwd=tmp_path)
+    assert done.returncode == 2 and "already exists" in done.stderr
+    assert existing.read_text(encoding="utf-8") == "keep me"
+    # A dangling symlink is not written through either.
+    (tmp_path / "link.toml").symlink_to(tmp_path / "nowhere.toml")
+    done = optimag("init", "link.toml", cwd=tmp_path)
+    assert done.returncode == 2
+    assert not (tmp_path / "nowhere.toml").exists()
+    assert [p.name for p in tmp_path.iterdir() if p.name.endswith(".tmp")] == []
+
+
+def test_init_with_a_missing_catalogue_is_a_one_line_problem(tmp_path):
+    done = optimag("init", "x", "--catalog", str(tmp_path / "nope"), cwd=tmp_path)
+    assert done.returncode == 2 and "Traceback" not in done.stderr
+    assert len(done.stderr.strip().splitlines()) == 1
+    assert not (tmp_path / "x.toml").exists()
+
+
+def test_check_names_the_defaults_it_applied(tmp_path):
+    text = (ROOT / "studies" / "cargo-bike-buck.toml").read_text(encoding="utf-8")
+    catalog = f'[catalog]\npath = "{ROOT.as_posix()}/catalogs/demo"'
+    text = text.replace("ambient_C = 50\n", "").replace(
+        '[catalog]\npath = "../catalogs/demo"', catalog)
+    study = tmp_path / "s.toml"
+    study.write_text(text, encoding="utf-8")
+    done = optimag("check", str(study))
+    assert done.returncode == 0, done.stderr
+    assert "limits.ambient_C = 40 °C" in done.stdout
+    assert "inductor.inductance_tolerance_pct = 10 %" in done.stdout
+    assert "limits.max_volume_cm3" in done.stdout  # not set
+    assert "search.trials" not in done.stdout  # optuna only; this study is exhaustive
+
+
+def test_version_and_examples_in_help():
+    import optimag as package
+
+    done = optimag("--version")
+    assert done.returncode == 0 and done.stdout.strip() == f"optimag {package.__version__}"
+    helped = optimag("--help")
+    assert helped.returncode == 0
+    assert "examples:" in helped.stdout and "optimag init" in helped.stdout
+    assert "REFERENCE.md" in helped.stdout

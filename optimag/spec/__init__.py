@@ -11,6 +11,7 @@ from optimag.spec.study import (
     Search,
     Study,
     StudyInfo,
+    applied_defaults,
     load_study,
     parse_study,
 )
@@ -40,6 +41,7 @@ __all__ = [
     "Study",
     "StudyInfo",
     "Waveform",
+    "applied_defaults",
     "ccm_duty_ratio",
     "ccm_ripple_inductance",
     "converter_waveform",

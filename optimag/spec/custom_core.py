@@ -67,25 +67,41 @@ Range = tuple[float, float]
 class CustomCore(BaseModel):
     """``[custom_core]``: family, dimension ranges [mm], bobbin wall and price rule."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    # The docstring under each field is its description in the study-file reference.
+    model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
 
     family: Literal["E", "pot"]
+    """Shape family of the custom core."""
     leg_width_mm: Range | None = None
+    """E: centre-leg width range [low, high] (one number fixes it)."""
     leg_depth_mm: Range | None = None
+    """E: centre-leg depth range [low, high]."""
     post_diameter_mm: Range | None = None
+    """pot: centre-post diameter range [low, high]."""
     window_breadth_mm: Range
+    """Window breadth (along the leg) range [low, high]."""
     window_width_mm: Range
+    """Window width (leg to outer leg) range [low, high]."""
     base_thickness_mm: Range | None = None
+    """pot: base-plate thickness range [low, high]; default a quarter of the post
+    diameter."""
     #: Bobbin wall between leg and winding; 0.8 mm is a usual moulded-bobbin wall
     #: (common practice, no source).
     bobbin_wall_mm: WallMM = 0.8
+    """Bobbin wall between leg and winding; 0.8 mm is a usual moulded-bobbin wall (common
+    practice, no source)."""
     price_base: Money
+    """Fixed price of a custom set, in the catalogue's currency units."""
     price_per_cm3: Money
+    """Price per cm³ of core material, in the catalogue's currency units."""
     max_height_mm: LengthMM | None = None
+    """Tallest custom set allowed; no limit when absent."""
     #: Dimensions are drawn on this grid (tool and drawing resolution).
     step_mm: StepMM = 0.1
+    """Dimensions are drawn on this grid (tool and drawing resolution)."""
     #: Search the catalogue's cores as well, so the report can compare the two.
     include_catalogue_cores: Annotated[bool, Strict()] = True
+    """Search the catalogue's cores as well, so the report can compare the two."""
 
     @field_validator(*_ALL_DIMENSIONS, mode="before")
     @classmethod

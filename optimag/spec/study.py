@@ -118,7 +118,9 @@ TIME_SHARE_TOLERANCE = 1e-6
 
 
 class _Section(BaseModel):
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    # The docstring under each field is its description in the study-file reference
+    # (`optimag.spec.reference`).
+    model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
 
 
 class StudyInfo(_Section):
@@ -126,6 +128,7 @@ class StudyInfo(_Section):
 
     name: Slug
     title: Title
+    """Free-text title shown in the report."""
 
 
 class Converter(_Section):
@@ -133,6 +136,7 @@ class Converter(_Section):
 
     topology: Literal["buck", "boost", "buck-boost"]
     switching_frequency_kHz: Frequency
+    """Switching frequency, common to every operating point."""
 
 
 class OperatingPoint(_Section):
@@ -140,19 +144,31 @@ class OperatingPoint(_Section):
 
     name: Name
     input_V: Voltage
+    """Input voltage at this point."""
     output_V: Voltage
+    """Output voltage at this point (its magnitude for the inverting buck-boost)."""
     load_A: Current
+    """Output (load) current at this point."""
     time_share: Fraction
+    """Share of the operating time spent at this point; the shares sum to 1. Weights the
+    loss objective."""
 
 
 class Inductor(_Section):
     """``[inductor]``: the inductance requirement, given directly or by ripple."""
 
     inductance_uH: InductanceUH | None = None
+    """Required inductance at low current. Give this or ripple_fraction, not both."""
     ripple_fraction: RippleFraction | None = None
+    """Peak-to-peak ripple as a fraction of the average inductor current, from which the
+    inductance is derived; 0.4 when neither this nor inductance_uH is given."""
     ripple_point: Name | None = None
+    """Operating point the ripple fraction applies to; default: the point that needs the
+    largest inductance."""
     inductance_tolerance_pct: Percent = 10.0
+    """Allowed deviation of the design's inductance from the required one."""
     min_fraction_at_peak: Fraction = 0.8
+    """Inductance kept at peak current, as a fraction of the required inductance."""
 
     @model_validator(mode="before")
     @classmethod
@@ -170,14 +186,23 @@ class Limits(_Section):
     """``[limits]``: environment and constraints every design must meet."""
 
     ambient_C: Celsius = 40.0
+    """Air temperature around the inductor."""
     max_temperature_C: Celsius = 100.0
     max_height_mm: LengthMM | None = None
+    """Highest allowed height of the wound part above the board; no limit when absent."""
     max_footprint_mm2: AreaMM2 | None = None
+    """Largest allowed board area of the wound part; no limit when absent."""
     flux_margin: Fraction = 0.8
+    """Peak flux density allowed, as a fraction of the saturation flux density at the
+    temperature limit."""
     max_fill_factor: Fraction = 0.5
     max_loss_W: LossW | None = None
+    """Largest allowed loss, weighted over the operating points by time share; no limit
+    when absent."""
     max_volume_cm3: VolumeCM3 | None = None
+    """Largest allowed boxed volume of the wound part; no limit when absent."""
     max_mass_g: MassG | None = None
+    """Largest allowed mass of core and copper; no limit when absent."""
 
 
 Objective = Literal["volume", "loss", "cost", "mass"]
@@ -187,34 +212,55 @@ class Search(_Section):
     """``[search]``: strategy, objectives and the bounds of the design space."""
 
     strategy: Literal["exhaustive", "optuna"] = "exhaustive"
+    """How the design space is searched: every candidate, or optuna's sampler (large
+    spaces, custom cores)."""
     objectives: Annotated[tuple[Objective, ...], Field(min_length=1, max_length=4)] = (
         "volume",
         "loss",
         "cost",
     )
     turns_min: _whole(*TURNS) = 1
+    """Fewest turns tried."""
     turns_max: _whole(*TURNS)
+    """Most turns tried."""
     stack_min: _whole(*STACK) = 1
+    """Fewest core sets stacked side by side."""
     stack_max: _whole(*STACK) = 1
+    """Most core sets stacked (also limited by each core's max_stack)."""
     parallel_min: _whole(*PARALLEL) = 1
+    """Fewest conductors wound in parallel."""
     parallel_max: _whole(*PARALLEL) = 1
+    """Most conductors wound in parallel."""
     gap: Literal["solve", "grid"] = "solve"
+    """solve: the gap is solved for the required inductance; grid: the spacer thicknesses
+    of gap_grid_mm are tried."""
     gap_grid_mm: Annotated[tuple[GapMM, ...], Field(max_length=GAP_GRID_ENTRIES)] = ()
+    """Gap lengths tried when gap = "grid"."""
     #: How a discrete gap may be made: "centre" (centre leg ground, outer legs touching)
     #: and/or "spacer" (a spacer between the halves gaps every leg by its thickness).
     gap_kinds: Annotated[
         tuple[Literal["centre", "spacer"], ...], Field(min_length=1, max_length=2)
     ] = ("centre",)
+    """How a discrete gap may be made: "centre" (centre leg ground, outer legs touching)
+    and/or "spacer" (a spacer between the halves gaps every leg by its thickness)."""
     cores: tuple[Name, ...] | None = None
+    """Catalogue core ids to search; all cores when absent."""
     materials: tuple[Name, ...] | None = None
+    """Catalogue material ids to search; all materials when absent."""
     wires: tuple[Name, ...] | None = None
+    """Catalogue wire ids to search; all wires when absent."""
     harmonics: Annotated[int, Strict(), Field(ge=15, le=200)] = 25
     trials: _whole(*TRIALS) = 2000
+    """optuna: number of trials."""
     seed: _whole(*SEED) = 0
+    """optuna: sampler seed (a single process with a fixed seed is reproducible)."""
     sampler: Literal["nsga2", "tpe"] = "nsga2"
+    """optuna: sampler."""
     batch_size: _whole(*BATCH) = 64
+    """optuna: trials asked and evaluated at once."""
     #: Keep only designs that meet every limit at every tolerance corner ([tolerance]).
     robust: Annotated[bool, Strict()] = False
+    """Keep only designs that meet every limit at every tolerance corner ([tolerance])."""
 
 
 class CatalogRef(_Section):
@@ -259,10 +305,15 @@ class ModelChoices(_Section):
     """``[model]``: which interchangeable physics models to use."""
 
     fringing: Literal["leg_edges", "mclyman", "muhlethaler", "ideal"] = "leg_edges"
+    """Gap fringing model: fringing at the gapped legs' edges, McLyman's fringing factor,
+    Mühlethaler's reluctance model, or none."""
     thermal: Literal["faces", "convection", "mclyman", "ferrite_rth"] = "faces"
-    #: A material used outside its loss fit (frequency or flux): "exclude" eliminates the
-    #: design (counted as ``material_range``); "flag" keeps it, marked in every output.
+    """Temperature-rise model: face by face (convection per face plus radiation, with the
+    [cooling] paths), whole-part natural convection plus radiation, McLyman's empirical
+    rise, or the ferrite thermal-resistance rule."""
     outside_fit: Literal["exclude", "flag"] = "exclude"
+    """A material used outside its loss fit (frequency or flux): "exclude" eliminates the
+    design (counted as material_range); "flag" keeps it, marked in every output."""
 
 
 
@@ -292,26 +343,37 @@ class Cooling(_Section):
     """
 
     mode: Literal["free_air", "on_board", "enclosure", "forced_air", "potted"] = "free_air"
+    """Where the part sheds its heat: still air on a board that takes no heat, the same
+    plus conduction into the board, inside a closed box, in an air stream, or potted."""
     board_temperature_C: Celsius | None = None
     board_copper_area_mm2: _bounded(*BOARD_COPPER_MM2) | None = None
+    """on_board: board copper area the terminals and footprint conduct into."""
     enclosure_volume_cm3: _bounded(*ENCLOSURE_VOLUME_CM3) | None = None
+    """enclosure: volume of the closed box, cooled outside by air at ambient_C."""
     air_speed_m_s: Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=50)] | None = (
         None
     )
+    """forced_air: speed of the air stream along the part's longer side."""
     potting_conductivity_W_mK: Annotated[
         float, Strict(), AllowInfNan(False), Field(gt=0, le=400)
     ] | None = None
     potting_thickness_mm: _bounded(*POTTING_THICKNESS_MM) | None = None
+    """potted: compound thickness between the part's free faces and the wall."""
     wall_temperature_C: Celsius | None = None
+    """potted: temperature of the wall the compound conducts to."""
     core_emissivity: Fraction = 0.9
+    """Emissivity of the visible core surface (radiation)."""
     winding_emissivity: Fraction = 0.85
+    """Emissivity of the visible winding surface (radiation)."""
 
 
 class Cost(_Section):
     """``[cost]``: labour cost and the currency label used in reports."""
 
     labour_per_turn: Money = 0.02
+    """Winding labour cost per turn, in the catalogue's currency units."""
     currency: Annotated[str, Strict(), StringConstraints(min_length=1, max_length=10)] = "cu"
+    """Currency label shown beside costs."""
 
 
 class Study(_Section):
@@ -588,6 +650,40 @@ def _toml_string(text: str) -> str:
     if "'" not in text and not any(ord(c) < 32 or ord(c) == 127 for c in text):
         return f"'{text}'"
     return json.dumps(text, ensure_ascii=False)
+
+
+def applied_defaults(study: Study) -> list[tuple[str, Any]]:
+    """The keys a study file leaves out and the values they took, in schema order.
+
+    Parameters
+    ----------
+    study : Study  A study built from its file (its ``source_text`` is read again) [-]
+
+    Returns
+    -------
+    list of (dotted key, value)  Every key absent from the file, with its default value;
+        ``None`` means "not set" (no limit, every catalogue entry). An absent
+        ``[custom_core]`` contributes nothing (it means no custom core). When the ripple
+        fraction applies without ``ripple_point``, ``inductor.ripple_point`` is reported
+        with the point the study chose.
+    """
+    document = tomllib.loads(study.source_text) if study.source_text else {}
+    applied: list[tuple[str, Any]] = []
+    for name, model in _SECTION_MODELS.items():
+        if name == "operating_points":
+            continue
+        section = getattr(study, name)
+        if section is None:
+            continue
+        given = document.get(name, {})
+        for key in model.model_fields:
+            if key in given:
+                continue
+            value = getattr(section, key)
+            if name == "inductor" and key == "ripple_point" and study.ripple_point is not None:
+                value = study.ripple_point.name
+            applied.append((f"{name}.{key}", value))
+    return applied
 
 
 def _validate_points(content: Any, problems: list[Problem], problem: Any) -> Any:

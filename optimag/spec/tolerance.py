@@ -81,23 +81,36 @@ def _default(key: str) -> Spread:
 class ToleranceSpec(BaseModel):
     """``[tolerance]``: production spreads, Monte Carlo size, seed and scope."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    # The docstring under each field is its description in the study-file reference.
+    model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
 
     samples: Annotated[int, Strict(), Field(ge=100, le=100_000)] = 2000
+    """Monte Carlo samples per design."""
     seed: Annotated[int, Strict(), Field(ge=0, le=2**32 - 1)] = 0
+    """Seed of the Monte Carlo draws."""
     scope: Literal["shortlist", "front"] = "shortlist"
+    """Which designs get a yield estimate: the short-list or the whole front."""
     gap_ground_mm: Spread = Field(default_factory=lambda: _default("gap_ground_mm"))
+    """± depth of a ground centre-leg gap."""
     gap_spacer_mm: Spread = Field(default_factory=lambda: _default("gap_spacer_mm"))
+    """± spacer thickness and seating."""
     permeability_pct: Spread = Field(default_factory=lambda: _default("permeability_pct"))
+    """± ferrite initial permeability."""
     powder_permeability_pct: Spread = Field(
         default_factory=lambda: _default("powder_permeability_pct")
     )
+    """± powder-core initial permeability."""
     al_ungapped_pct: Spread = Field(default_factory=lambda: _default("al_ungapped_pct"))
+    """± AL of an ungapped ferrite core."""
     bsat_pct: Spread = Field(default_factory=lambda: _default("bsat_pct"))
+    """± saturation flux density."""
     steinmetz_k_pct: Spread = Field(default_factory=lambda: _default("steinmetz_k_pct"))
-    #: None: the IEC 60317-0-1 conductor tolerance per diameter (see the module notes).
+    """± core-loss coefficient k."""
     wire_diameter_pct: Spread | None = None
+    """± bare copper diameter; when absent, the IEC 60317-0-1 conductor tolerance per
+    diameter, max(0.003 mm, 1 % of d) (from memory)."""
     ambient_C: Spread = Field(default_factory=lambda: _default("ambient_C"))
+    """± ambient temperature (a difference, in K)."""
 
     @model_validator(mode="before")
     @classmethod
