@@ -30,6 +30,9 @@ Every study key, its unit, default and range: studies/REFERENCE.md.
 #: Optional tables that `check` summarises in one line when the study leaves them out.
 SUMMARISED_SECTIONS = ("tolerance",)
 
+#: search keys whose absence means the whole catalogue.
+UNSET_SEARCH_KEYS = ("search.cores", "search.materials", "search.wires")
+
 #: search keys that only the optuna strategy reads.
 OPTUNA_ONLY_KEYS = ("search.trials", "search.seed", "search.sampler", "search.batch_size")
 
@@ -92,7 +95,10 @@ def _defaults_lines(study) -> list[str]:
         if key == "search.gap_grid_mm" and study.search.gap != "grid":
             continue
         if value is None:
-            unset.append(key)
+            # Only absences that widen the search are worth a word; a key of another
+            # cooling mode or the inductance given by ripple is simply not used.
+            if key.startswith("limits.") or key in UNSET_SEARCH_KEYS:
+                unset.append(key)
             continue
         section, _, name = key.partition(".")
         unit = unit_of(section, name)
