@@ -127,6 +127,7 @@ class StudyInfo(_Section):
     """``[study]``: identity of the study."""
 
     name: Slug
+    """Short name of the study; names the run folder (lowercase letters, digits, '-')."""
     title: Title
     """Free-text title shown in the report."""
 
@@ -135,6 +136,7 @@ class Converter(_Section):
     """``[converter]``: topology and switching frequency."""
 
     topology: Literal["buck", "boost", "buck-boost"]
+    """Converter topology; buck-boost is the inverting buck-boost (output magnitude)."""
     switching_frequency_kHz: Frequency
     """Switching frequency, common to every operating point."""
 
@@ -143,6 +145,7 @@ class OperatingPoint(_Section):
     """One ``[[operating_points]]`` entry."""
 
     name: Name
+    """Name of the point, unique within the study."""
     input_V: Voltage
     """Input voltage at this point."""
     output_V: Voltage
@@ -188,6 +191,7 @@ class Limits(_Section):
     ambient_C: Celsius = 40.0
     """Air temperature around the inductor."""
     max_temperature_C: Celsius = 100.0
+    """Highest allowed hot-spot temperature at any operating point."""
     max_height_mm: LengthMM | None = None
     """Highest allowed height of the wound part above the board; no limit when absent."""
     max_footprint_mm2: AreaMM2 | None = None
@@ -196,6 +200,7 @@ class Limits(_Section):
     """Peak flux density allowed, as a fraction of the saturation flux density at the
     temperature limit."""
     max_fill_factor: Fraction = 0.5
+    """Largest allowed copper area as a fraction of the window area."""
     max_loss_W: LossW | None = None
     """Largest allowed loss, weighted over the operating points by time share; no limit
     when absent."""
@@ -219,6 +224,7 @@ class Search(_Section):
         "loss",
         "cost",
     )
+    """Objectives minimised together, distinct, from volume, loss, cost, mass."""
     turns_min: _whole(*TURNS) = 1
     """Fewest turns tried."""
     turns_max: _whole(*TURNS)
@@ -250,6 +256,7 @@ class Search(_Section):
     wires: tuple[Name, ...] | None = None
     """Catalogue wire ids to search; all wires when absent."""
     harmonics: Annotated[int, Strict(), Field(ge=15, le=200)] = 25
+    """Harmonics of the inductor current used for the AC winding loss."""
     trials: _whole(*TRIALS) = 2000
     """optuna: number of trials."""
     seed: _whole(*SEED) = 0
@@ -268,7 +275,11 @@ class CatalogRef(_Section):
     content hash the catalogue must have (a run folder's study copy records it)."""
 
     path: Path
+    """Catalogue folder (cores.csv, materials.csv, wires.csv), relative to the study
+    file."""
     sha256: Annotated[str, Strict(), StringConstraints(pattern=r"^[0-9a-f]{64}$")] | None = None
+    """Content hash (sha256) the catalogue must have; written into a run folder's copy of
+    the study so a rerun refuses a catalogue that has changed."""
 
     @field_validator("path", mode="before")
     @classmethod
@@ -346,6 +357,7 @@ class Cooling(_Section):
     """Where the part sheds its heat: still air on a board that takes no heat, the same
     plus conduction into the board, inside a closed box, in an air stream, or potted."""
     board_temperature_C: Celsius | None = None
+    """on_board: temperature of the board copper (at least ambient_C)."""
     board_copper_area_mm2: _bounded(*BOARD_COPPER_MM2) | None = None
     """on_board: board copper area the terminals and footprint conduct into."""
     enclosure_volume_cm3: _bounded(*ENCLOSURE_VOLUME_CM3) | None = None
@@ -357,6 +369,7 @@ class Cooling(_Section):
     potting_conductivity_W_mK: Annotated[
         float, Strict(), AllowInfNan(False), Field(gt=0, le=400)
     ] | None = None
+    """potted: thermal conductivity of the potting compound."""
     potting_thickness_mm: _bounded(*POTTING_THICKNESS_MM) | None = None
     """potted: compound thickness between the part's free faces and the wall."""
     wall_temperature_C: Celsius | None = None

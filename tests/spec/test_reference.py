@@ -52,9 +52,9 @@ def test_every_key_has_a_description_and_a_unit_when_its_name_carries_one(sectio
 
 def test_reference_rows_show_ranges_and_defaults():
     text = REFERENCE.read_text(encoding="utf-8")
-    assert "| `ambient_C` | number | °C | 40 | > -273.15 |" in text
-    assert "| `max_volume_cm3` | number | cm³ | absent | > 0 |" in text
-    assert "| `max_mass_g` | number | g | absent | > 0 |" in text
+    assert "| `ambient_C` | number | °C | 40 | >= -100, <= 300 |" in text
+    assert "| `max_volume_cm3` | number | cm³ | absent | >= 0.001, <= 1e+06 |" in text
+    assert "| `max_mass_g` | number | g | absent | >= 0.001, <= 1e+06 |" in text
     assert "| `harmonics` | whole number | - | 25 | >= 15, <= 200 |" in text
     assert '| `topology` | text | - | required | one of "buck", "boost", "buck-boost" |' in text
 
