@@ -336,6 +336,119 @@ def _fit_material(args) -> int:
     return 0
 
 
+def _evaluate(args) -> int:
+    import json
+
+    from rich.console import Console
+    from rich.table import Table
+
+    from optimag import records
+    from optimag.catalog import load_catalog
+    from optimag.search.given import GivenDesign, evaluate_given
+    from optimag.spec import load_study
+
+    study = load_study(Path(args.study))
+    catalog = load_catalog(study.catalog.path)
+    design = GivenDesign(core=args.core, material=args.material, turns=args.turns,
+                         wire=args.wire, parallel=args.parallel, stack=args.stack,
+                         gap_mm=args.gap_mm, name="given")
+    result = evaluate_given(study, catalog, design, source="command line", prefix="--")
+    record = result.record
+    if args.json:
+        print(json.dumps(record, indent=1, allow_nan=False))
+    else:
+        out = Console() if sys.stdout.isatty() else Console(width=160)
+        gap = "solved for the inductance" if args.gap_mm is None else "given"
+        out.print(
+            f"{record['core']} x{record['stack']} {record['material']}, N = {record['turns']}, "
+            f"{record['parallel']} x {record['wire']}, gap {record['gap_mm']:.4g} mm ({gap})"
+        )
+        figures = Table(title=f"Figures (point figures at {record['operating_point']}, "
+                              "the hottest operating point)")
+        figures.add_column("figure")
+        figures.add_column("value", justify="right")
+        for key in ("inductance_uH", "inductance_at_peak_uH", "peak_current_A",
+                    "peak_flux_T", "flux_swing_T", "core_loss_W", "winding_dc_loss_W",
+                    "winding_ac_loss_W", "winding_gap_loss_W", "total_loss_W",
+                    "weighted_loss_W", "temperature_C", "fill_factor", "layers",
+                    "volume_cm3", "mass_g", "cost"):
+            figures.add_row(records.header(key, study.cost.currency),
+                            records.display(key, record[key]))
+        out.print(figures)
+        checks = Table(title="Constraints (margin > 0: met)")
+        for col in ("constraint", "value", "limit", "margin", ""):
+            checks.add_column(col, justify="right" if col == "margin" else "left")
+        for check in result.checks:
+            checks.add_row(check.name, check.value, check.limit, f"{check.margin:+.1%}",
+                           "met" if check.met else "[bold red]violated[/bold red]")
+        out.print(checks)
+        for note in record.get("model_notes", []):
+            out.print(f"note: {note}")
+    if result.violated:
+        print(f"violates: {', '.join(result.violated)}", file=sys.stderr)
+        return 1
+    return 0
+
+
+def _verify(args) -> int:
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+    from rich.table import Table
+
+    from optimag import files
+    from optimag.report.data import field_check_lines
+    from optimag.report.html import build_report
+    from optimag.verify import verify_design
+
+    run_dir = Path(args.run_dir)
+    if not (run_dir / "run.json").is_file():
+        print(f"{run_dir}: not a run folder (no run.json)", file=sys.stderr)
+        return 2
+    console = Console(stderr=True)
+    with files.claim_run_folder(run_dir, overwrite=True), Progress(
+        TextColumn("[bold]field check[/bold]"), BarColumn(), TextColumn("{task.description}"),
+        TimeElapsedColumn(), console=console, transient=True,
+    ) as progress:
+        task = progress.add_task("starting", total=1.0)
+
+        def tell(step: str, done: float) -> None:
+            progress.update(task, completed=done, description=step)
+
+        result = verify_design(run_dir, args.design_id, progress=tell,
+                               resolution=args.resolution)
+        progress.update(task, description="rebuilding the report")
+        build_report(run_dir)
+    out = Console() if sys.stdout.isatty() else Console(width=160)
+    table = Table(title=f"Field check of {result['design_id']} ({result['core']}, gap "
+                        f"{result['gap_mm']:.3g} mm, {result['section']} section)")
+    table.add_column("figure")
+    table.add_column("value", justify="right")
+    for label, value in field_check_lines(result):
+        table.add_row(label, value)
+    out.print(table)
+    across = Table(title=f"|B| across the winding at the gap's height, "
+                        f"{result['peak_current_A']:.3g} A, in mT")
+    for col in ("from the leg (mm)", "field solution", "gap-loss model", "1-D (AC loss)"):
+        across.add_column(col, justify="right")
+    for row in zip(result["field_distance_mm"], result["field_fem_mT"],
+                   result["field_closed_form_mT"], result["field_one_d_mT"], strict=True):
+        across.add_row(*(f"{v:.3g}" for v in row))
+    out.print(across)
+    out.print(f"Flux plot: {run_dir / ('verify-' + result['design_id'] + '.html')}; "
+              "the report's build sheet shows the check.")
+    return 0
+
+
+def _non_negative_float(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
+    if not (value >= 0.0 and value != float("inf")):
+        raise argparse.ArgumentTypeError(f"{text} must be a finite length >= 0")
+    return value
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="optimag", description="Power-inductor design search for switch-mode converters.",
@@ -390,6 +503,27 @@ def build_parser() -> argparse.ArgumentParser:
     fit.add_argument("--name", help="material id (default: the points file's name)")
     fit.add_argument("--out", help="write the header and row to this new file "
                                    "(default: print them)")
+    evaluate = commands.add_parser(
+        "evaluate", help="evaluate one given design with the model of a study")
+    evaluate.add_argument("study", help="the study .toml file")
+    evaluate.add_argument("--core", required=True, help="core id in the catalogue")
+    evaluate.add_argument("--material", required=True, help="material id")
+    evaluate.add_argument("--turns", required=True, type=_positive_int, help="number of turns")
+    evaluate.add_argument("--wire", required=True, help="wire id")
+    evaluate.add_argument("--parallel", type=_positive_int, default=1,
+                          help="conductors in parallel (default 1)")
+    evaluate.add_argument("--stack", type=_positive_int, default=1,
+                          help="core sets stacked (default 1)")
+    evaluate.add_argument("--gap-mm", type=_non_negative_float,
+                          help="air gap [mm]; default: solved for the study's inductance")
+    evaluate.add_argument("--json", action="store_true",
+                          help="print the design's record in the shortlist.json format")
+    verify = commands.add_parser(
+        "verify", help="check one design of a run against field solutions (finite elements)")
+    verify.add_argument("run_dir", help="a run folder written by explore")
+    verify.add_argument("design_id", help="the design's id (e.g. D0001)")
+    verify.add_argument("--resolution", type=float, default=1.0,
+                        help="mesh density factor (default 1; 2 doubles the grid lines)")
     report = commands.add_parser("report", help="rebuild report.html of a run folder")
     report.add_argument("run_dir", help="a run folder written by explore")
     return parser
@@ -460,6 +594,10 @@ def _dispatch(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
         return _report(args)
     if args.command == "fit-material":
         return _fit_material(args)
+    if args.command == "evaluate":
+        return _evaluate(args)
+    if args.command == "verify":
+        return _verify(args)
     if args.command == "worker":
         from optimag.search.optuna_search import worker_command
 

@@ -584,6 +584,65 @@ def window_permeance(
     return np.where(has_window, magnetic.window_permeance(length, width, height, share), 0.0)
 
 
+def _large_signal(space, material, turns, le, ae, bsat, r_gap, current, p_window=0.0):
+    """Incremental inductance [H] and flux density in Ae [T] at a DC current (arrays
+    broadcast): powder by its roll-off law, ferrite by its soft-saturation curve on the core
+    and gap path plus the winding window's own permeance ``p_window`` [H] (air, linear)."""
+    m = space.materials
+    powder = m.kind[material] == 1
+    mu_i = m.mu_i[material]
+    a, b, c = m.rolloff_a[material], m.rolloff_b[material], m.rolloff_c[material]
+    field = turns * current / le
+    powder_l = magnetic.powder_inductance(turns, current, le, ae, mu_i, a, b, c)
+    powder_b = magnetic.powder_flux_density(field, mu_i, a, b, c)
+    # The soft law needs mu_i > 1 (a ferrite of mu_i = 1 would be air: keep it finite).
+    soft = magnetic.soft_saturation_operating_point(
+        turns, current, le, ae, np.where(powder, 2.0, np.maximum(mu_i, 1.0 + 1e-9)), bsat,
+        r_gap,
+    )
+    return (
+        np.where(powder, powder_l, soft.inductance_H + turns * turns * p_window),
+        np.where(powder, powder_b, soft.flux_density_T),
+    )
+
+
+def inductance_versus_current(
+    space: DesignSpace,
+    core: np.ndarray,
+    stack: np.ndarray,
+    material: np.ndarray,
+    turns: np.ndarray,
+    gap_option: np.ndarray,
+    gap_m: np.ndarray,
+    current_A: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Incremental inductance [H] and flux density in Ae [T] of designs at DC currents,
+    with the Bsat of the hottest allowed temperature, exactly as `magnetic_stage` uses them.
+    The design arrays have shape (n,), ``current_A`` (n, ...)."""
+    c, m, req = space.cores, space.materials, space.requirements
+    stack_f = np.asarray(stack, dtype=float)
+    ae = c.ae_m2[core] * stack_f
+    le = c.le_m[core]
+    geometry = gap_geometry(space, core, stack, gap_option)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityRangeWarning)
+        r_gap = magnetic.gap_reluctance(
+            gap_m, ae, c.breadth_m[core], geometry.leg_width_m, geometry.leg_depth_m,
+            model=req.fringing, geometry=geometry,
+        )
+        r_core = magnetic.core_reluctance(le, ae, m.mu_i[material])
+        p_window = window_permeance(space, core, stack, gap_option, gap_m, r_core, geometry)
+    bsat_hot = magnetic.bsat_at_temperature(
+        req.max_temperature_C, m.bsat_25C_T[material], m.bsat_100C_T[material]
+    )
+    current = np.asarray(current_A, dtype=float)
+    col = (slice(None),) + (None,) * (current.ndim - 1)
+    return _large_signal(
+        space, np.asarray(material)[col], np.asarray(turns, dtype=float)[col],
+        le[col], ae[col], bsat_hot[col], r_gap[col], current, p_window[col],
+    )
+
+
 @_quiet
 def magnetic_stage(
     space: DesignSpace,
@@ -660,16 +719,24 @@ def magnetic_stage(
             can_gap & ~unreachable, np.minimum(inductance_violation, -1.0), inductance_violation
         )
 
-    # Each design's own current at each point: its inductance at the point's average
-    # current (a powder core's rolled off by the bias) decides CCM or DCM, the conduction
-    # intervals, the ripple and the peak (Erickson & Maksimović, ch. 2 and 5).
+    # Large-signal behaviour at the hottest allowed temperature (a feasible part runs no
+    # hotter, and Bsat falls with temperature): powder by its roll-off law, ferrite on its
+    # soft-saturation curve fitted to mu_i and Bsat there.
+    bsat_hot, flux_limit = saturation_limits(space, material)
+
+    def large_signal(current: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        col = (slice(None),) + (None,) * (np.ndim(current) - 1)
+        return _large_signal(
+            space, material[col], n_turns[col], le[col], ae[col], bsat_hot[col], r_gap[col],
+            current, p_window[col],
+        )
+
+    # Each design's own current at each point: its incremental inductance at the point's
+    # average current (rolled off by the bias: powder roll-off, ferrite soft saturation)
+    # decides CCM or DCM, the conduction intervals, the ripple and the peak (Erickson &
+    # Maksimović, ch. 2 and 5).
     dc = np.broadcast_to(op.dc_A[None, :], (len(n_turns), len(op.dc_A)))
-    powder_ldc = magnetic.powder_inductance(
-        n_turns[:, None], dc, le[:, None], ae[:, None], mu_i[:, None],
-        m.rolloff_a[material][:, None], m.rolloff_b[material][:, None],
-        m.rolloff_c[material][:, None],
-    )
-    inductance_dc = np.where(powder[:, None], powder_ldc, inductance0[:, None])
+    inductance_dc, _ = large_signal(dc)
     # An unreachable gap leaves no usable inductance; any positive stand-in keeps the
     # arithmetic finite (the candidate is eliminated under "inductance").
     inductance_dc = np.where(inductance_dc > 0, inductance_dc, req.inductance_H)
@@ -688,37 +755,19 @@ def magnetic_stage(
             ripple[where_dcm], rise[where_dcm], fall[where_dcm], op.harmonics_A.shape[1]
         )
 
-    # Flux: linear (ferrite) core B = L i / (N A); powder from its roll-off law.
-    h_peak = n_turns[:, None] * peak / le[:, None]
-    h_valley = n_turns[:, None] * valley / le[:, None]
-    powder_args = (
-        mu_i[:, None], m.rolloff_a[material][:, None], m.rolloff_b[material][:, None],
-        m.rolloff_c[material][:, None],
-    )
-    b_peak_powder = magnetic.powder_flux_density(h_peak, *powder_args)
-    b_valley_powder = magnetic.powder_flux_density(h_valley, *powder_args)
-    flux_per_amp = (inductance0 / (n_turns * ae))[:, None]
-    b_peak_linear = flux_per_amp * peak
-    b_swing = np.where(
-        powder[:, None], b_peak_powder - b_valley_powder, flux_per_amp * (peak - valley)
-    )
-    b_peak = np.where(powder[:, None], b_peak_powder, b_peak_linear)
+    # Flux on Ae from the same large-signal law (the core's B at the current).
+    _, b_peak = large_signal(peak)
+    _, b_valley = large_signal(valley)
+    b_swing = b_peak - b_valley
     # Saturation is decided in the narrowest section (Amin), at the hottest allowed
-    # temperature: a feasible part runs no hotter, and Bsat falls with temperature. The
-    # peak flux the model reports is this one; the swing for core loss stays on Ae.
+    # temperature. The peak flux the model reports is this one; the swing for core loss
+    # stays on Ae.
     b_peak_narrow = b_peak * (ae / amin)[:, None]
-    bsat_hot, flux_limit = saturation_limits(space, material)
     worst_flux = b_peak_narrow.max(axis=1)
     saturation_violation = worst_flux / flux_limit - 1.0
 
-    # Inductance left at the highest peak current (powder roll-off; ferrite stays linear
-    # below saturation, which the saturation constraint guards).
-    worst_peak = peak.max(axis=1)
-    powder_lpk = magnetic.powder_inductance(
-        n_turns, worst_peak, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
-        m.rolloff_c[material],
-    )
-    inductance_peak = np.where(powder, powder_lpk, inductance0)
+    # Incremental inductance left at the highest peak current.
+    inductance_peak, _ = large_signal(peak.max(axis=1))
     peak_fraction = inductance_peak / req.inductance_H
     peak_violation = 1.0 - peak_fraction / req.min_fraction_at_peak
 
@@ -782,6 +831,8 @@ def magnetic_stage(
         "rise_fraction": rise,
         "fall_fraction": fall,
         "harmonics_A": harmonics,
+        "gap_mmf_share": np.where(gap > 0.0, r_gap / (r_gap + r_core), 0.0),
+        "window_inductance_H": np.where(powder, 0.0, n_turns * n_turns * p_window),
         "violation_inductance": inductance_violation,
         "violation_saturation": saturation_violation,
         "violation_inductance_at_peak": peak_violation,
@@ -935,14 +986,24 @@ def winding_loss_stage(
         )
         rdc = layout["dc_resistance_20C_ohm"] * (rho / COPPER_RESISTIVITY_20C)
         out[f"winding_dc_{label}_W"] = rdc[:, None] * dc_sq[None, :]
-        out[f"winding_ac_unit_{label}_W"] = rdc[:, None] * (factors @ unit_sq_half.T)[inverse]
+        # Row-wise sums (not a matrix product, whose rounding may depend on the batch) keep
+        # a design's figures the same whichever batch it is evaluated in.
+        out[f"winding_ac_unit_{label}_W"] = rdc[:, None] * _rowwise(factors, unit_sq_half)[inverse]
         out[f"harmonic_resistance_{label}_ohm"] = rdc[:, None] * factors[inverse]
+        gap_coefficient = _gap_loss_coefficient(
+            space, wire, kind, core, layout, n_turns, n_par, freq[0], rho
+        )
+        out[f"gap_harmonic_coefficient_{label}_W_per_A2"] = gap_coefficient
+        out[f"winding_gap_unit_{label}_W"] = _rowwise(gap_coefficient, 2.0 * unit_sq_half)
     return out
 
 
 #: Stage outputs with a harmonic axis; a search joining stage outputs leaves them out of
 #: the per-candidate gather and hands them to `winding_ac_loss` with row indices.
-HARMONIC_KEYS = ("harmonics_A", "harmonic_resistance_lo_ohm", "harmonic_resistance_hi_ohm")
+HARMONIC_KEYS = (
+    "harmonics_A", "harmonic_resistance_lo_ohm", "harmonic_resistance_hi_ohm",
+    "gap_harmonic_coefficient_lo_W_per_A2", "gap_harmonic_coefficient_hi_W_per_A2",
+)
 
 
 def winding_ac_loss(
@@ -952,27 +1013,81 @@ def winding_ac_loss(
     wdg_rows: np.ndarray,
     block: int = 65_536,
 ) -> dict[str, np.ndarray]:
-    """AC winding loss (n, K) at both reference temperatures of the candidates joining
-    magnetic row ``mag_rows[i]`` with winding row ``wdg_rows[i]``.
+    """AC winding loss and gap loss in the winding (n, K) at both reference temperatures of
+    the candidates joining magnetic row ``mag_rows[i]`` with winding row ``wdg_rows[i]``.
 
     CCM: the unit-ripple loss times the design's ripple squared (the triangle's shape is
     fixed by the duty ratio). DCM: the sum over harmonics of R_n c_n^2 / 2 with the design's
     own harmonic amplitudes c_n (`pulse_harmonics`), as the shape changes with D1 and D2.
+    The gap loss follows the same split and is scaled by the square of the share of the
+    MMF that sits across the gap (``gap_mmf_share``).
     """
     ripple_sq = mag["ripple_A"][mag_rows] ** 2
     dcm = mag["dcm"][mag_rows]
+    share_sq = (mag["gap_mmf_share"][mag_rows] ** 2)[:, None]
     out = {}
     for label in ("lo", "hi"):
         loss = wdg[f"winding_ac_unit_{label}_W"][wdg_rows] * ripple_sq
+        gap = wdg[f"winding_gap_unit_{label}_W"][wdg_rows] * ripple_sq
         resistance = wdg[f"harmonic_resistance_{label}_ohm"]
+        coefficient = wdg[f"gap_harmonic_coefficient_{label}_W_per_A2"]
         for k in np.flatnonzero(dcm.any(axis=0)):
             rows = np.flatnonzero(dcm[:, k])
             for start in range(0, rows.size, block):
                 sel = rows[start:start + block]
                 amp = mag["harmonics_A"][mag_rows[sel], k, :]
                 loss[sel, k] = 0.5 * np.einsum("ih,ih->i", resistance[wdg_rows[sel]], amp * amp)
+                gap[sel, k] = np.einsum("ih,ih->i", coefficient[wdg_rows[sel]], amp * amp)
         out[f"winding_ac_{label}_W"] = loss
+        out[f"winding_gap_{label}_W"] = gap * share_sq
     return out
+
+
+def _rowwise(per_row: np.ndarray, per_point: np.ndarray) -> np.ndarray:
+    """sum_h per_row[i, h] per_point[k, h] -> (n, K), each element summed on its own."""
+    return (per_row[:, None, :] * per_point[None, :, :]).sum(axis=-1)
+
+
+def _gap_loss_coefficient(space, wire, kind, core, layout, n_turns, n_par, harmonic_freq, rho):
+    """Extra eddy loss per squared current-harmonic amplitude [W/A^2], shape (n, H), of the
+    conductors near a centre-leg gap carrying the winding's whole MMF (`winding_ac_loss`
+    scales it by the square of the magnetic stage's ``gap_mmf_share``).
+
+    Each layer's mean squared field in excess of the 1-D (Dowell) field,
+    `winding.gap_fringing_excess` (distances from the bobbin wall and the layer pitch the
+    layout knows), times the exact transverse-field loss of its round conductors or litz
+    strands, `winding.round_conductor_transverse_loss`, summed over the layers, along the
+    mean turn length. Foil is left out (its low-frequency sheet formula has no support at
+    practical widths; the record notes it)."""
+    c, w = space.cores, space.wires
+    is_litz = kind == 1
+    diameter = np.where(is_litz, w.strand_diameter_m[wire], w.bare_diameter_m[wire])
+    strands = np.where(is_litz, w.strands[wire], 1.0)
+    pitch = w.outer_m[wire]
+    per_layer = layout["conductors_per_layer"]
+    layers = layout["layers"]
+    conductors = n_turns * n_par
+    height = c.breadth_m[core]
+    wall = c.bobbin_wall_m[core]
+    # Sum over layers of conductors x excess field (units of (F_g/h)^2); the last layer
+    # holds what is left.
+    geometry_sum = np.zeros(len(wire))
+    before = np.zeros(len(wire))
+    for layer in range(int(layers.max(initial=0))):
+        in_layer = np.clip(conductors - before, 0.0, per_layer) * (layer < layers)
+        distance = wall + (layer + 0.5) * pitch
+        fraction = 1.0 - (before + 0.5 * in_layer) / conductors
+        with np.errstate(divide="ignore", invalid="ignore"):
+            excess = winding.gap_fringing_excess(distance, in_layer * pitch, height, fraction)
+        geometry_sum += np.where(in_layer > 0, in_layer * excess, 0.0)
+        before += in_layer
+    geometry = geometry_sum * strands * layout["mlt_m"] * n_turns**2 / height**2
+    per_field = winding.round_conductor_transverse_loss(
+        harmonic_freq[None, :], rho, diameter[:, None]
+    )  # (n, H) W/m per (A/m)^2
+    # Toroids have no discrete gap; foil is not estimated (see above).
+    skip = (kind == 2) | (c.family[core] == 2)
+    return np.where(skip[:, None], 0.0, geometry[:, None] * per_field)
 
 
 def _distinct_ac_cases(space, wire, kind, core, layout, turns, parallel):
@@ -1032,8 +1147,8 @@ def loss_quadratic(space: DesignSpace, material: np.ndarray, mag: dict, wdg: dic
     m = space.materials
     t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
     core_ref = mag["core_loss_reference_W"]
-    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"]
-    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"]
+    wind_lo = wdg["winding_dc_lo_W"] + wdg["winding_ac_lo_W"] + wdg["winding_gap_lo_W"]
+    wind_hi = wdg["winding_dc_hi_W"] + wdg["winding_ac_hi_W"] + wdg["winding_gap_hi_W"]
     slope = (wind_hi - wind_lo) / (t_hi - t_lo)
     a0 = core_ref * m.ct0[material][:, None] + wind_lo - slope * t_lo
     a1 = -core_ref * m.ct1[material][:, None] + slope
@@ -1215,10 +1330,13 @@ def combine_stage(
     ac_loss = (
         wdg["winding_ac_lo_W"] + fraction * (wdg["winding_ac_hi_W"] - wdg["winding_ac_lo_W"])
     )
-    point_loss = core_loss + dc_loss + ac_loss
-    weighted_loss = point_loss @ op.share
+    gap_loss = (
+        wdg["winding_gap_lo_W"] + fraction * (wdg["winding_gap_hi_W"] - wdg["winding_gap_lo_W"])
+    )
+    point_loss = core_loss + dc_loss + ac_loss + gap_loss
+    weighted_loss = (point_loss * op.share[None, :]).sum(axis=1)
     winding_rise, core_rise = hot_spot_rise(
-        space, core, stack, wire, wdg, dc_loss + ac_loss, core_loss
+        space, core, stack, wire, wdg, dc_loss + ac_loss + gap_loss, core_loss
     )
     hot_rise = np.maximum(winding_rise, core_rise)
     hotspot = np.where(runaway, thermal.RUNAWAY_TEMPERATURE_C, temperature + hot_rise)
@@ -1241,6 +1359,7 @@ def combine_stage(
         "core_loss_W": core_loss,
         "winding_dc_loss_W": dc_loss,
         "winding_ac_loss_W": ac_loss,
+        "winding_gap_loss_W": gap_loss,
         "point_loss_W": point_loss,
         "core_loss_temperature_factor": ct,
         "weighted_loss_W": weighted_loss,
@@ -1427,51 +1546,16 @@ def inductance_curve(
     candidates: Candidates,
     metrics: dict[str, np.ndarray],
     current_A: np.ndarray,
-    temperature_C: np.ndarray,
 ) -> np.ndarray:
-    """Incremental inductance [H] of each candidate at the currents ``current_A`` (n, P)
-    with the core at ``temperature_C`` (n,).
-
-    Powder: the roll-off law the model uses. Gapped or ungapped ferrite: the model's
-    zero-current inductance until the narrowest section (Amin) reaches Bsat at the given
-    temperature, then the core taken as fully saturated (relative permeability 1), leaving
-    the same gap reluctance the model used in the remaining path — a hard-saturation
-    approximation (common practice, no source).
-    """
-    c, m, req = space.cores, space.materials, space.requirements
-    core, material = candidates.core, candidates.material
-    stack = candidates.stack.astype(float)
-    n_turns = candidates.turns.astype(float)[:, None]
-    current = np.asarray(current_A, dtype=float)
-    ae = (c.ae_m2[core] * stack)[:, None]
-    amin = (c.amin_m2[core] * stack)[:, None]
-    le = c.le_m[core][:, None]
-    col = (slice(None), None)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", ValidityRangeWarning)
-        powder = magnetic.powder_inductance(
-            n_turns, current, le, ae, m.mu_i[material][col], m.rolloff_a[material][col],
-            m.rolloff_b[material][col], m.rolloff_c[material][col],
-        )
-        l0 = metrics["inductance_H"][:, None]
-        bsat = magnetic.bsat_at_temperature(
-            np.asarray(temperature_C, dtype=float), m.bsat_25C_T[material],
-            m.bsat_100C_T[material],
-        )[:, None]
-        current_at_bsat = bsat * n_turns * amin / l0
-        geometry = gap_geometry(space, core, candidates.stack, candidates.gap_option)
-        r_gap = magnetic.gap_reluctance(
-            metrics["gap_m"], ae[:, 0], c.breadth_m[core], geometry.leg_width_m,
-            geometry.leg_depth_m, model=req.fringing, geometry=geometry,
-        )[:, None]
-        r_air = magnetic.core_reluctance(le, ae, 1.0)
-        p_window = window_permeance(
-            space, core, candidates.stack, candidates.gap_option, metrics["gap_m"], r_air[:, 0],
-            geometry,
-        )[:, None]
-        saturated = magnetic.inductance(n_turns, r_air + r_gap) + n_turns**2 * p_window
-    ferrite = np.where(current <= current_at_bsat, l0, saturated)
-    return np.where((m.kind[material] == 1)[:, None], powder, ferrite)
+    """Incremental inductance [H] of each candidate at the currents ``current_A`` (n, P),
+    by the model's own large-signal law (`inductance_versus_current`): the powder roll-off,
+    or the ferrite's Fröhlich-Kennelly soft saturation with the Bsat of the hottest allowed
+    temperature — the curve that gives ``inductance_at_peak_H`` and the ripple."""
+    inductance, _ = inductance_versus_current(
+        space, candidates.core, candidates.stack, candidates.material, candidates.turns,
+        candidates.gap_option, metrics["gap_m"], current_A,
+    )
+    return inductance
 
 
 #: Whole-part laws for still free air, applicable as alternatives in "free_air" only.

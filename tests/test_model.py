@@ -115,3 +115,66 @@ def test_ripple_follows_each_designs_own_inductance(tiny_space):
         )
         expected = (vi - vo) * (vo / vi) / (l_dc * op.frequency_Hz)
         np.testing.assert_allclose(metrics["ripple_A"][i, k], expected, rtol=1e-9)
+
+
+def test_ferrite_rolls_off_on_its_soft_saturation_curve(tiny_space):
+    """Ferrite ripple and inductance at peak follow the Fröhlich-Kennelly circuit solution
+    (physics.magnetic.soft_saturation_operating_point, tested against a root finder) with
+    the Bsat of the hottest allowed temperature; the buck ripple is (Vi - Vo) D / (L f)."""
+    from optimag.physics import magnetic
+
+    cands = _random_candidates(tiny_space, 3000, seed=5)
+    metrics = model.evaluate(tiny_space, cands)
+    m, c, op = tiny_space.materials, tiny_space.cores, tiny_space.operating
+    req = tiny_space.requirements
+    i = np.flatnonzero((m.kind[cands.material] == 0) & (metrics["gap_m"] > 0))
+    assert i.size
+    ae = c.ae_m2[cands.core[i]] * cands.stack[i]
+    geometry = model.gap_geometry(tiny_space, cands.core[i], cands.stack[i],
+                                  cands.gap_option[i])
+    r_gap = magnetic.gap_reluctance(metrics["gap_m"][i], ae, c.breadth_m[cands.core[i]],
+                                    geometry.leg_width_m, geometry.leg_depth_m,
+                                    model=req.fringing, geometry=geometry)
+    le, mu = c.le_m[cands.core[i]], m.mu_i[cands.material[i]]
+    # The winding window's own field, in parallel with the core path (linear, air).
+    window = cands.turns[i] ** 2 * model.window_permeance(
+        tiny_space, cands.core[i], cands.stack[i], cands.gap_option[i], metrics["gap_m"][i],
+        magnetic.core_reluctance(le, ae, mu), geometry)
+    bsat = magnetic.bsat_at_temperature(req.max_temperature_C, m.bsat_25C_T[cands.material[i]],
+                                        m.bsat_100C_T[cands.material[i]])
+    args = (le, ae, mu, bsat, r_gap)
+    for k, (vi, vo) in enumerate([(24.0, 5.0), (12.0, 5.0)]):
+        ccm = ~metrics["dcm"][i, k]
+        assert ccm.any()
+        l_dc = magnetic.soft_saturation_operating_point(
+            cands.turns[i], op.dc_A[k], *args).inductance_H + window
+        expected = (vi - vo) * (vo / vi) / (l_dc * op.frequency_Hz)
+        np.testing.assert_allclose(metrics["ripple_A"][i, k][ccm], expected[ccm], rtol=1e-9)
+    worst_peak = metrics["peak_current_A"][i].max(axis=1)
+    at_peak = magnetic.soft_saturation_operating_point(cands.turns[i], worst_peak, *args)
+    np.testing.assert_allclose(metrics["inductance_at_peak_H"][i],
+                               at_peak.inductance_H + window, rtol=1e-9)
+    # Soft saturation: every gapped ferrite design keeps less than L0 at its peak current.
+    assert np.all(metrics["inductance_at_peak_H"][i] < metrics["inductance_H"][i])
+
+
+def test_gap_loss_in_the_winding_is_part_of_the_total(tiny_space):
+    """Parts add up: core + winding DC + AC + gap loss = each point's loss; the gap loss is
+    zero without a discrete gap (powder, rings) and for foil, and grows when the winding
+    is pressed against the gap (thinner bobbin wall)."""
+    cands = _random_candidates(tiny_space, 3000, seed=6)
+    metrics = model.evaluate(tiny_space, cands)
+    parts = (metrics["core_loss_W"] + metrics["winding_dc_loss_W"]
+             + metrics["winding_ac_loss_W"] + metrics["winding_gap_loss_W"])
+    np.testing.assert_allclose(parts, metrics["point_loss_W"], rtol=1e-12)
+    gap = metrics["winding_gap_loss_W"]
+    m, w, c = tiny_space.materials, tiny_space.wires, tiny_space.cores
+    no_gap = ((m.kind[cands.material] == 1) | (c.family[cands.core] == 2)
+              | (w.kind[cands.wire] == 2))
+    assert np.all(gap[no_gap] == 0.0)
+    gapped = np.flatnonzero(~no_gap & (metrics["gap_m"] > 0))
+    assert gapped.size and np.all(gap[gapped] > 0)
+    closer = dataclasses.replace(
+        tiny_space, cores=dataclasses.replace(c, bobbin_wall_m=c.bobbin_wall_m * 0.25))
+    pressed = model.evaluate(closer, cands.take(gapped))["winding_gap_loss_W"]
+    assert np.all(pressed.sum(axis=1) > gap[gapped].sum(axis=1))

@@ -126,6 +126,24 @@ class RunData:
     def near_misses(self) -> list[dict[str, Any]]:
         return list(self.meta.get("near_misses") or [])
 
+    @property
+    def field_checks(self) -> dict[str, dict[str, Any]]:
+        """Field checks (``verify-<id>.json`` written by ``optimag verify``) by design id."""
+        checks = {}
+        for path in sorted(self.folder.glob("verify-*.json")):
+            try:
+                content = json.loads(path.read_text(encoding="utf-8"))
+            except (OSError, ValueError):
+                continue
+            if isinstance(content, dict) and "design_id" in content and "plot" in content:
+                checks[str(content["design_id"])] = content
+        return checks
+
+    @property
+    def reference_designs(self) -> list[dict[str, Any]]:
+        """Records of the study's given designs (``[[reference_designs]]``)."""
+        return list(self.meta.get("reference_designs") or [])
+
 
 @dataclass(frozen=True)
 class PairView:
@@ -301,6 +319,19 @@ def pareto_table(run: RunData) -> pd.DataFrame:
     return table.sort_values([first, "design_id"], kind="stable").reset_index(drop=True)
 
 
+def reference_table(run: RunData) -> pd.DataFrame:
+    """The study's reference designs with the front's columns (for marking them on the
+    trade-off plots) and ``meets_all`` telling whether each meets every constraint."""
+    columns = [c for c in PARETO_COLUMNS if c != "knee"]
+    rows = [{c: ref.get(c) for c in columns} | {"meets_all": not ref.get("violated")}
+            for ref in run.reference_designs]
+    table = pd.DataFrame(rows, columns=[*columns, "meets_all"])
+    for name in PARETO_NUMBER_COLUMNS:
+        if name in table:
+            table[name] = pd.to_numeric(table[name], errors="coerce").astype(float)
+    return table
+
+
 def non_dominated(points: np.ndarray) -> np.ndarray:
     """Mask of the points no other point dominates, all coordinates minimised.
 
@@ -383,6 +414,7 @@ def shortlist_table(run: RunData) -> pd.DataFrame:
         "core_loss_W",
         "winding_dc_loss_W",
         "winding_ac_loss_W",
+        "winding_gap_loss_W",
         "total_loss_W",
         "weighted_loss_W",
         "volume_cm3",
@@ -391,8 +423,9 @@ def shortlist_table(run: RunData) -> pd.DataFrame:
         "operating_point",
         "dcm",
     ]
-    # Records written before the hot spot existed: their temperature stands in for it.
-    rows = [{c: r.get(c, r.get("temperature_C")) if c == "hotspot_temperature_C" else r[c]
+    # Records written before the hot spot existed: their temperature stands in for it;
+    # records before the gap-loss model have no gap loss.
+    rows = [{c: r.get(c, r.get("temperature_C")) if c == "hotspot_temperature_C" else r.get(c)
              for c in columns} for r in run.shortlist]
     table = pd.DataFrame(rows, columns=columns)
     table["knee"] = table["knee"].astype(bool)
@@ -535,7 +568,8 @@ def winding_drawing_shapes(record: dict[str, Any]) -> pd.DataFrame:
 
 
 def loss_breakdown(record: dict[str, Any]) -> pd.DataFrame:
-    """Loss split into core, DC winding and AC winding for each operating point.
+    """Loss split into core, DC winding, AC winding and gap loss in the winding for each
+    operating point.
 
     Long format: one row per (operating point, component) with ``operating_point``,
     ``time_share``, ``component``, ``loss_W`` and the point's ``total_loss_W``.
@@ -551,6 +585,8 @@ def loss_breakdown(record: dict[str, Any]) -> pd.DataFrame:
             "Core": float(point["core_loss_W"]),
             "Winding DC": float(point["winding_dc_loss_W"]),
             "Winding AC": float(point["winding_ac_loss_W"]),
+            # Records before the gap-loss model have no such part.
+            "Winding gap": float(point.get("winding_gap_loss_W", 0.0)),
         }
         total = float(point["total_loss_W"])
         mismatch = abs(sum(parts.values()) - total)
@@ -769,3 +805,23 @@ def header_facts(run: RunData) -> list[tuple[str, str]]:
     if meta.get("candidates_per_s") is not None:
         facts.append(("Throughput", f"{float(meta['candidates_per_s']):,.0f} designs/s"))
     return facts
+
+
+def field_check_lines(result: dict[str, Any]) -> list[tuple[str, str]]:
+    """A field check's figures (``optimag verify``) as (label, text) lines."""
+    model_f = result["fringing_factor_model"]
+    return [
+        ("Inductance, model", f"{result['inductance_model_uH']:.4g} µH"),
+        ("Inductance, field solution", f"{result['inductance_fem_uH']:.4g} µH"),
+        ("Model against field solution", f"{100 * result['inductance_error']:+.1f} %"),
+        ("Fringing factor, model", "—" if model_f is None else f"{model_f:.3f}"),
+        ("Fringing factor, field solution", f"{result['fringing_factor_fem']:.3f}"),
+        ("Depth correction (3-D gap)", f"{result['depth_factor']:.3f}"),
+        ("|B| next to the gap, field solution / 1-D",
+         f"{result['field_fem_mT'][0]:.3g} / {result['field_one_d_mT'][0]:.3g} mT"),
+        ("∫|B|² over the winding, field solution / 1-D",
+         f"{result['winding_b2_fem_over_one_d']:.2f}"),
+        ("∫|B|² over the winding, gap-loss model / field solution",
+         f"{result['winding_b2_closed_form_over_fem']:.2f}"),
+        ("Solve time", f"{result['solve_time_s']:.1f} s"),
+    ]

@@ -29,7 +29,7 @@ BUILD_SHEET_FIELDS = (
     "box_length_mm", "box_width_mm", "box_height_mm", "volume_cm3", "mass_g", "cost",
     "inductance_uH", "inductance_at_peak_uH", "peak_current_A", "peak_flux_T",
     "flux_limit_T", "operating_point", "total_loss_W", "core_loss_W", "winding_dc_loss_W",
-    "winding_ac_loss_W", "temperature_C", "weighted_loss_W",
+    "winding_ac_loss_W", "winding_gap_loss_W", "temperature_C", "weighted_loss_W",
 )
 
 _SHEET_FORBIDDEN = re.compile(r"[\[\]:*?/\\]")

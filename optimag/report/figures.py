@@ -87,15 +87,47 @@ def flagged_rows(front: pd.DataFrame) -> pd.DataFrame:
     return front[front["model_flags"].fillna("").astype(str) != ""]
 
 
+def _reference_trace(references: pd.DataFrame | None, columns: list[str], currency: str,
+                     three_d: bool = False) -> list[Any]:
+    """The study's reference designs as labelled stars (filled: meets every constraint)."""
+    if references is None or references.empty:
+        return []
+    rows = references.dropna(subset=columns)
+    if rows.empty:
+        return []
+    filled = rows["meets_all"].astype(bool).to_numpy()
+    marker = {
+        "symbol": ["star" if ok else "star-open" for ok in filled] if not three_d
+        else "diamond-open",
+        "size": 16 if not three_d else 9,
+        "color": style.BRICK,
+        "line": {"color": style.BRICK, "width": 1.5},
+    }
+    coords = dict(zip(("x", "y", "z"), (rows[c] for c in columns), strict=False))
+    trace = go.Scatter3d if three_d else go.Scatter
+    return [trace(
+        **coords,
+        mode="markers+text",
+        text=rows["design_id"].map(plot_text),
+        textposition="top center",
+        name="reference design",
+        marker=marker,
+        customdata=_hover_data(rows, currency),
+        hovertemplate=_HOVER,
+    )]
+
+
 def tradeoff_pair_figure(
-    front: pd.DataFrame, view: PairView, currency: str, hand: pd.DataFrame | None = None
+    front: pd.DataFrame, view: PairView, currency: str, hand: pd.DataFrame | None = None,
+    references: pd.DataFrame | None = None,
 ) -> go.Figure:
     """Front designs in one objective pair: colour = material, symbol = core family.
 
     The dotted staircase joins the designs that stay non-dominated in this pair; the
     knee design wears an ochre ring; a design with a raised model flag wears an open
     square. ``hand``: designs of the hand procedure that meet every limit, drawn as
-    crosses.
+    crosses. ``references``: the study's reference designs, labelled stars (open when they
+    miss a constraint).
     """
     colours = style.material_colour_map(list(front["material"]))
     traces: list[Any] = []
@@ -183,6 +215,7 @@ def tradeoff_pair_figure(
                 ),
             )
         )
+    traces += _reference_trace(references, [view.x_column, view.y_column], currency)
     return _styled(
         traces,
         xaxis={"title": {"text": plot_text(view.x_title)}},
@@ -214,8 +247,10 @@ def _yield_labels(front: pd.DataFrame, view: PairView) -> list[Any]:
     )]
 
 
-def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str) -> go.Figure:
-    """The front in the space of the run's first three objectives."""
+def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str,
+                       references: pd.DataFrame | None = None) -> go.Figure:
+    """The front in the space of the run's first three objectives, with the study's
+    reference designs marked."""
     columns = [OBJECTIVES[name][0] for name in objectives[:3]]
     titles = [plot_text(objective_title(name, currency)) for name in objectives[:3]]
     colours = style.material_colour_map(list(front["material"]))
@@ -266,6 +301,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
                 hovertemplate=_HOVER,
             )
         )
+    traces += _reference_trace(references, columns, currency, three_d=True)
     scene_axis = {
         "backgroundcolor": style.PLOT_FIELD,
         "gridcolor": style.GRID,
@@ -436,7 +472,8 @@ def winding_figure(shapes: pd.DataFrame, record: dict[str, Any]) -> go.Figure:
 
 
 def loss_figure(breakdown: pd.DataFrame) -> go.Figure:
-    """Stacked loss per operating point: core, DC winding, AC winding."""
+    """Stacked loss per operating point: core, DC winding, AC winding, gap loss in the
+    winding."""
     points = list(dict.fromkeys(breakdown["operating_point"]))
     shares = breakdown.drop_duplicates("operating_point").set_index("operating_point")
     labels = [
@@ -604,3 +641,36 @@ def margin_figure(margins: pd.DataFrame) -> go.Figure:
         ],
         margin={"l": 160, "r": 16, "t": 16, "b": 44},
     )
+
+
+def field_check_figure(result: dict[str, Any]) -> go.Figure:
+    """Plotly figure of the solved section: |B| as colour, flux lines as contours, iron
+    and winding outlined."""
+    plot = result["plot"]
+    axis_x = "r [mm]" if result["section"] == "axisymmetric" else "x [mm]"
+    fig = go.Figure()
+    fig.add_trace(go.Heatmap(x=plot["x_mm"], y=plot["y_mm"], z=plot["b_T"],
+                             colorscale="Cividis", colorbar={"title": {"text": "|B| [T]"}},
+                             hovertemplate="%{x:.2f}, %{y:.2f} mm: %{z:.3f} T<extra></extra>"))
+    fig.add_trace(go.Contour(x=plot["x_mm"], y=plot["y_mm"], z=plot["potential"],
+                             contours={"coloring": "none"}, ncontours=28,
+                             line={"color": "white", "width": 1}, showscale=False,
+                             hoverinfo="skip"))
+    shapes = [
+        {"type": "rect", "x0": r[0], "x1": r[1], "y0": r[2], "y1": r[3],
+         "line": {"color": "#d8ccb2", "width": 1.5}}
+        for r in plot["iron_mm"]
+    ]
+    c = plot["coil_mm"]
+    shapes.append({"type": "rect", "x0": c[0], "x1": c[1], "y0": c[2], "y1": c[3],
+                   "line": {"color": "#b8733a", "width": 2, "dash": "dot"}})
+    fig.update_layout(
+        shapes=shapes, height=460, margin={"l": 50, "r": 20, "t": 30, "b": 45},
+        xaxis={"title": {"text": axis_x}, "constrain": "domain"},
+        yaxis={"title": {"text": "height above the gap's mid-plane [mm]"},
+               "scaleanchor": "x", "scaleratio": 1},
+        title={"text": f"{plot_text(result['design_id'])}: flux at "
+                       f"{result['peak_current_A']:.3g} A (gap {result['gap_mm']:.3g} mm)",
+               "font": {"size": 13}},
+    )
+    return fig

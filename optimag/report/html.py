@@ -197,11 +197,15 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
         )
     hand = data.hand_sizing_table(run)
     hand_on_map = hand[hand["feasible"].astype(bool)] if len(hand) else None
+    references = data.reference_table(run)
     cards = [
         _card(
             f"{view.y_title} against {view.x_title}",
             slots.render(
-                figures.tradeoff_pair_figure(front, view, run.currency, hand_on_map), "pair"
+                figures.tradeoff_pair_figure(
+                    front, view, run.currency, hand_on_map, references
+                ),
+                "pair",
             ),
             f"{len(view.front_ids)} of {len(front)} front designs stay unbeaten in this pair "
             "of objectives (dotted staircase).",
@@ -214,7 +218,10 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
             _card(
                 f"The whole front in three objectives ({names})",
                 slots.render(
-                    figures.tradeoff_3d_figure(front, run.objectives, run.currency), "front-3d"
+                    figures.tradeoff_3d_figure(
+                        front, run.objectives, run.currency, references
+                    ),
+                    "front-3d",
                 ),
                 "Drag to turn the view; hover a point for its figures.",
             )
@@ -228,6 +235,11 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
         f"({', '.join(run.objectives)}). Colour shows the core material, marker shape the "
         "core family; the ringed point is the knee, the most balanced compromise."
     )
+    if not references.empty:
+        lede += (
+            " Red stars are the study's reference designs, evaluated with the same model "
+            "(filled: meets every constraint; open: misses one)."
+        )
     return _section(1, "tradeoff", "Trade-off map", lede, body)
 
 
@@ -346,7 +358,22 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
     return _section(2, "shortlist", "Short-list side by side", lede, body)
 
 
-def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> str:
+def _field_check_panel(check: dict[str, Any], slots: _FigureSlots) -> str:
+    rows = data.field_check_lines(check)
+    table = _table(["Field check", "Value"], rows, css="data kv")
+    figure = slots.render(figures.field_check_figure(check), "field-check")
+    return _card(
+        "Field check (finite elements)",
+        f'<div class="grid">{table}{figure}</div>',
+        "From `optimag verify`: the core, gap and winding window solved as a "
+        f"{check['section']} section with the winding current; white lines are flux "
+        "lines, colour is |B|, the dotted box the winding. The 1-D field is the one the AC "
+        "loss assumes; the gap-loss model's field adds the gap's fringing.",
+    )
+
+
+def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots,
+                 check: dict[str, Any] | None = None) -> str:
     sheet_rows = data.build_sheet_table(record, currency)
     table = _table(["Item", "Value"], sheet_rows.itertuples(index=False, name=None), css="data kv")
     parts = _card("Parts and winding", table)
@@ -397,6 +424,8 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots) -> 
         f'<div class="grid">{parts}<div class="stack">{drawing}{headroom}</div>'
         f"{losses_panel}{inductance_panel}{_production_scatter(record, slots)}</div>"
     )
+    if check is not None:
+        layout += _field_check_panel(check, slots)
     notes = record.get("model_notes") or []
     if notes:
         items = "".join(f"<li>{escape(note)}</li>" for note in notes)
@@ -487,7 +516,10 @@ def _robust(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
 
 def _build_sheets(run: data.RunData, slots: _FigureSlots) -> str:
     records = sorted(run.shortlist, key=lambda r: int(r["rank"]))
-    body = "".join(_build_sheet(r, run.currency, slots) for r in records)
+    checks = run.field_checks
+    body = "".join(
+        _build_sheet(r, run.currency, slots, checks.get(str(r["design_id"]))) for r in records
+    )
     lede = (
         "Everything needed to wind each short-listed design: parts, the window to scale, "
         "where the loss arises at each operating point, how inductance falls with current, "

@@ -55,6 +55,7 @@ LOSS_COLOURS: dict[str, str] = {
     "Core": SLATE,
     "Winding DC": TEAL,
     "Winding AC": OCHRE,
+    "Winding gap": BRICK,
 }
 
 SANS_STACK = (

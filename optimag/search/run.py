@@ -18,6 +18,7 @@ from optimag.errors import InputError, Problem
 from optimag.ranges import MAX_CANDIDATES, MEMORY_BUDGET_BYTES
 from optimag.search.exhaustive import CANDIDATE_FIELDS, SearchPlan, explore_exhaustive, plan
 from optimag.search.fingerprint import study_fingerprint
+from optimag.search.given import reference_design_records
 from optimag.search.hand import hand_sizing
 from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
 from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
@@ -75,6 +76,14 @@ def check_study_against_catalog(study, catalog) -> None:
                     str(study.path), _line_of(study, key), f"search.{key}",
                     f"'{ident}' is not in the catalogue {catalog.folder}{hint}",
                 ))
+    from optimag.search.given import check_given, given_from_entry
+
+    for index, entry in enumerate(getattr(study, "reference_designs", ()) or ()):
+        try:
+            check_given(study, catalog, given_from_entry(entry), str(study.path),
+                        f"reference_designs[{index}].")
+        except InputError as error:
+            problems.extend(error.problems)
     if problems:
         raise InputError(problems)
 
@@ -273,6 +282,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         ),
         "tolerance": tolerance_record,
         "robust": _robust_record(study, outcome, objectives),
+        "reference_designs": reference_design_records(study, catalog),
     }
     if outcome.interrupted and int(outcome.total) > counted:
         record["counts"]["not_reached"] = int(outcome.total) - counted

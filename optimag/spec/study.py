@@ -389,6 +389,28 @@ class Cost(_Section):
     """Currency label shown beside costs."""
 
 
+class ReferenceDesign(_Section):
+    """One ``[[reference_designs]]`` entry: a given design (the one on the bench, a
+    colleague's proposal) evaluated with the same model and marked in the report."""
+
+    name: Name
+    """Label of the reference design on the report's plots."""
+    core: Name
+    """Catalogue core id."""
+    material: Name
+    """Catalogue material id."""
+    turns: _whole(*TURNS)
+    """Turns of the winding."""
+    wire: Name
+    """Catalogue wire id."""
+    parallel: _whole(*PARALLEL) = 1
+    """Conductors wound in parallel."""
+    stack: _whole(*STACK) = 1
+    """Core sets stacked side by side."""
+    gap_mm: _bounded(0.0, 100.0) | None = None
+    """Air gap as built; absent: solved for the study's inductance like the search."""
+
+
 class Study(_Section):
     """A validated study. Build it with `load_study` (or `parse_study`).
 
@@ -408,6 +430,7 @@ class Study(_Section):
     cost: Cost = Cost()
     custom_core: CustomCore | None = None
     tolerance: ToleranceSpec = ToleranceSpec()
+    reference_designs: tuple[ReferenceDesign, ...] = ()
 
     _path: Path | None = PrivateAttr(default=None)
     _source_text: str = PrivateAttr(default="")
@@ -498,6 +521,7 @@ _SECTION_MODELS: dict[str, type[_Section]] = {
     "cost": Cost,
     "custom_core": CustomCore,
     "tolerance": ToleranceSpec,
+    "reference_designs": ReferenceDesign,
 }
 _REQUIRED_SECTIONS = ("study", "converter", "operating_points", "search", "catalog")
 
@@ -589,11 +613,13 @@ def parse_study(
                 problems.append(problem(name, f"missing section {header}"))
             else:
                 # An absent [custom_core] means no custom core, not a default one.
-                sections[name] = None if name == "custom_core" else model()
+                # No [[reference_designs]] means none.
+                absent = {"custom_core": None, "reference_designs": ()}
+                sections[name] = absent[name] if name in absent else model()
             continue
         content = document[name]
-        if name == "operating_points":
-            sections[name] = _validate_points(content, problems, problem)
+        if name in _TABLE_ARRAYS:
+            sections[name] = _validate_points(content, problems, problem, name)
             continue
         if not isinstance(content, dict):
             problems.append(
@@ -683,7 +709,7 @@ def applied_defaults(study: Study) -> list[tuple[str, Any]]:
     document = tomllib.loads(study.source_text) if study.source_text else {}
     applied: list[tuple[str, Any]] = []
     for name, model in _SECTION_MODELS.items():
-        if name == "operating_points":
+        if name in _TABLE_ARRAYS:
             continue
         section = getattr(study, name)
         if section is None:
@@ -699,38 +725,40 @@ def applied_defaults(study: Study) -> list[tuple[str, Any]]:
     return applied
 
 
-def _validate_points(content: Any, problems: list[Problem], problem: Any) -> Any:
+#: Sections written as arrays of tables ([[name]]).
+_TABLE_ARRAYS = ("operating_points", "reference_designs")
+
+
+def _validate_points(
+    content: Any, problems: list[Problem], problem: Any, name: str = "operating_points"
+) -> Any:
+    entry_model = _SECTION_MODELS[name]
     if isinstance(content, dict):
         problems.append(
             problem(
-                "operating_points",
-                "must be an array of tables: write each point under its own "
-                "[[operating_points]] header",
+                name,
+                f"must be an array of tables: write each entry under its own [[{name}]] header",
             )
         )
         return None
     if not isinstance(content, list):
-        problems.append(
-            problem(
-                "operating_points", f"expected [[operating_points]] tables, got {_shown(content)}"
-            )
-        )
+        problems.append(problem(name, f"expected [[{name}]] tables, got {_shown(content)}"))
         return None
-    if not content:
+    if not content and name == "operating_points":
         problems.append(problem("operating_points", "at least one operating point is required"))
         return None
     points = []
     for index, entry in enumerate(content):
-        prefix = f"operating_points[{index}]"
+        prefix = f"{name}[{index}]"
         if not isinstance(entry, dict):
             problems.append(problem(prefix, f"expected a table, got {_shown(entry)}"))
             continue
         try:
-            points.append(OperatingPoint.model_validate(entry))
+            points.append(entry_model.model_validate(entry))
         except ValidationError as error:
             problems.extend(
                 problem(field, message)
-                for field, message in _translate(error, prefix, OperatingPoint)
+                for field, message in _translate(error, prefix, entry_model)
             )
     return tuple(points) if len(points) == len(content) else None
 
@@ -745,6 +773,17 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
     search = sections.get("search")
     cooling = sections.get("cooling")
     choices = sections.get("model")
+
+    designs = sections.get("reference_designs") or ()
+    seen: dict[str, int] = {}
+    for index, design in enumerate(designs):
+        if design.name in seen:
+            faults.append((
+                f"reference_designs[{index}].name",
+                f"duplicate reference-design name '{design.name}' (first used by "
+                f"reference_designs[{seen[design.name]}]); names must be unique",
+            ))
+        seen.setdefault(design.name, index)
 
     if points:
         first_index: dict[str, int] = {}

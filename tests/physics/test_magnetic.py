@@ -301,6 +301,80 @@ def test_powder_inductance_scalar_zero_bias_is_linear_core():
     )
 
 
+# --------------------------------------------------------------------------- soft saturation
+# Fröhlich (Elektrotech. Z. 1881) / Kennelly (Trans. AIEE 1891) law, both from memory:
+# the reluctivity H/J of the material is a straight line a + b|H| in the field.
+
+
+def test_soft_saturation_reluctivity_is_kennellys_straight_line():
+    mu_i, js = 2000.0, 0.4
+    fields = np.array([1.0, 30.0, 300.0, 3e3, 3e4])
+    polarisation = mag.soft_saturation_polarization(fields, mu_i, js)
+    reluctivity = fields / polarisation
+    slope, intercept = np.polyfit(fields, reluctivity, 1)
+    assert intercept == pytest.approx(1.0 / (MU0 * (mu_i - 1.0)), rel=1e-9)
+    assert slope == pytest.approx(1.0 / js, rel=1e-9)
+    np.testing.assert_allclose(reluctivity, intercept + slope * fields, rtol=1e-12)
+
+
+def test_soft_saturation_fit_to_initial_permeability_and_bsat():
+    mu_i, js = 1400.0, 0.38
+    # Initial slope of B(H): central difference at H = 0 gives mu0 mu_i.
+    step = 1e-6
+    slope = (mag.soft_saturation_flux_density(step, mu_i, js)
+             - mag.soft_saturation_flux_density(-step, mu_i, js)) / (2 * step)
+    assert slope == pytest.approx(MU0 * mu_i, rel=1e-6)
+    # Far field: the polarisation reaches J_s; B is odd in H.
+    assert mag.soft_saturation_polarization(1e9, mu_i, js) == pytest.approx(js, rel=1e-5)
+    assert mag.soft_saturation_flux_density(-250.0, mu_i, js) == pytest.approx(
+        -mag.soft_saturation_flux_density(250.0, mu_i, js), rel=1e-15
+    )
+
+
+@pytest.mark.parametrize("r_gap", [0.0, 2e5, 5e6])
+def test_soft_saturation_operating_point_solves_amperes_law(r_gap):
+    """Independent numerical solution: brentq on N I = le H + R_g Ae B(H), and the
+    incremental inductance by a central difference of the flux linkage."""
+    from scipy.optimize import brentq
+
+    turns, le, ae, mu_i, js = 25.0, 0.045, 8e-5, 2300.0, 0.41
+    currents = np.array([0.05, 0.8, 3.0, 12.0, 60.0])
+    point = mag.soft_saturation_operating_point(turns, currents, le, ae, mu_i, js, r_gap)
+    for k, current in enumerate(currents):
+        def residual(h, current=current):
+            flux = mag.soft_saturation_flux_density(h, mu_i, js)
+            return le * h + r_gap * ae * flux - turns * current
+        field = brentq(residual, 0.0, turns * current / le, xtol=1e-14, rtol=1e-14)
+        assert point.field_A_per_m[k] == pytest.approx(field, rel=1e-9)
+        assert point.flux_density_T[k] == pytest.approx(
+            mag.soft_saturation_flux_density(field, mu_i, js), rel=1e-9
+        )
+    step = 1e-5
+    plus = mag.soft_saturation_operating_point(turns, currents + step, le, ae, mu_i, js, r_gap)
+    minus = mag.soft_saturation_operating_point(turns, currents - step, le, ae, mu_i, js, r_gap)
+    linkage_slope = turns * ae * (plus.flux_density_T - minus.flux_density_T) / (2 * step)
+    np.testing.assert_allclose(point.inductance_H, linkage_slope, rtol=1e-6)
+
+
+def test_soft_saturation_inductance_limits_and_roll_off():
+    # Magnetic circuit law at zero current, mu_r = 1 (air-cored) far beyond saturation.
+    turns, le, ae, mu_i, js, r_gap = 30.0, 0.05, 1e-4, 2000.0, 0.4, 1.5e6
+    linear = mag.inductance(turns, mag.core_reluctance(le, ae, mu_i) + r_gap)
+    air = mag.inductance(turns, mag.core_reluctance(le, ae, 1.0) + r_gap)
+    currents = np.linspace(0.0, 400.0, 2001)
+    point = mag.soft_saturation_operating_point(turns, currents, le, ae, mu_i, js, r_gap)
+    assert point.inductance_H[0] == pytest.approx(linear, rel=1e-12)
+    assert point.inductance_H[-1] == pytest.approx(air, rel=2e-2)
+    assert np.all(np.diff(point.inductance_H) < 0)  # rolls off monotonically
+    # The roll-off starts before Bsat: at 70 % of J_s in the core L is already lower.
+    at_70 = np.argmin(np.abs(point.flux_density_T - 0.7 * js))
+    assert point.inductance_H[at_70] < 0.97 * linear
+    # Negative current: same inductance, opposite flux.
+    neg = mag.soft_saturation_operating_point(turns, -currents[5], le, ae, mu_i, js, r_gap)
+    assert neg.inductance_H == pytest.approx(point.inductance_H[5], rel=1e-14)
+    assert neg.flux_density_T == pytest.approx(-point.flux_density_T[5], rel=1e-14)
+
+
 # --------------------------------------------------------------------------- saturation
 
 

@@ -138,7 +138,7 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
     wire_kind, _, copper_area, _ = WIRES[wire]
     winding = _winding(core, wire, turns, parallel)
     volume = 2.2 + 1.35 * index + 0.2 * rng.random()
-    split = np.array([0.38, 0.47, 0.15])
+    split = np.array([0.38, 0.45, 0.13, 0.04])
     total = 1.05 + 14.0 / (volume + 1.5)
     losses = np.round(total * split, 4)
     fill = turns * parallel * copper_area / (core["breadth"] * core["width"])
@@ -154,8 +154,8 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
     peak_flux = (0.55 + 0.1 * rng.random()) if powder else (0.24 + 0.05 * rng.random())
     points = []
     for point, (f_core, f_dc, f_ac) in zip(OPERATING_POINTS, POINT_FACTORS, strict=True):
-        core_w, dc_w, ac_w = np.round(losses * (f_core, f_dc, f_ac), 4)
-        point_total = round(float(core_w + dc_w + ac_w), 6)
+        core_w, dc_w, ac_w, gap_w = np.round(losses * (f_core, f_dc, f_ac, f_ac), 4)
+        point_total = round(float(core_w + dc_w + ac_w + gap_w), 6)
         points.append(
             {
                 "name": point["name"],
@@ -163,6 +163,7 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
                 "core_loss_W": float(core_w),
                 "winding_dc_loss_W": float(dc_w),
                 "winding_ac_loss_W": float(ac_w),
+                "winding_gap_loss_W": float(gap_w),
                 "total_loss_W": point_total,
                 "peak_flux_T": round(peak_flux * (0.97 + 0.03 * f_dc), 4),
                 "flux_swing_T": round(0.1 * f_core, 4),
@@ -224,6 +225,7 @@ def _design(index: int, spec: tuple, rng: np.random.Generator) -> dict[str, Any]
         "core_loss_W": hottest["core_loss_W"],
         "winding_dc_loss_W": hottest["winding_dc_loss_W"],
         "winding_ac_loss_W": hottest["winding_ac_loss_W"],
+        "winding_gap_loss_W": hottest["winding_gap_loss_W"],
         "total_loss_W": hottest["total_loss_W"],
         "weighted_loss_W": weighted,
         "temperature_C": hottest["temperature_C"],

@@ -272,7 +272,7 @@ def test_winding_drawing_property(breadth, width, wall, outer, turns, parallel, 
 def test_loss_breakdown_adds_up_per_operating_point(run_dir: Path) -> None:
     for record in _records(run_dir):
         table = data.loss_breakdown(record)
-        assert len(table) == 3 * len(record["per_operating_point"])
+        assert len(table) == 4 * len(record["per_operating_point"])
         sums = table.groupby("operating_point", sort=False)["loss_W"].sum()
         for point in record["per_operating_point"]:
             assert sums[point["name"]] == pytest.approx(point["total_loss_W"], rel=1e-6)

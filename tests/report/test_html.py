@@ -342,3 +342,31 @@ def test_headroom_chart_shows_the_hot_spot_band() -> None:
     assert bar.error_x.arrayminus[row] == pytest.approx(4.0)  # down to 84 %
     assert bar.error_x.array[0] == 0.0
     assert "band 84–97 °C" in bar.text[row]
+
+
+def test_reference_designs_are_marked_on_every_tradeoff_plot(run_dir: Path) -> None:
+    """A study's [[reference_designs]] (records in run.json) appear as labelled stars on
+    each pair view and in the 3-D view; filled when they meet every constraint."""
+    meta = json.loads((run_dir / "run.json").read_text("utf-8"))
+    shortlist = json.loads((run_dir / "shortlist.json").read_text("utf-8"))["designs"]
+    bench = dict(shortlist[1], design_id="bench", violated=[])
+    proposal = dict(shortlist[2], design_id="proposal <b>", violated=["temperature"])
+    meta["reference_designs"] = [bench, proposal]
+    (run_dir / "run.json").write_text(json.dumps(meta), "utf-8")
+    run = data.load_run(run_dir)
+    front = data.pareto_table(run)
+    references = data.reference_table(run)
+    assert list(references["meets_all"]) == [True, False]
+    views = data.pair_views(run, front)
+    built = [figures.tradeoff_pair_figure(front, v, run.currency, references=references)
+             for v in views]
+    built.append(figures.tradeoff_3d_figure(front, run.objectives, run.currency, references))
+    for fig, view in zip(built, [*views, None], strict=True):
+        marked = [t for t in fig.data if t.name == "reference design"]
+        assert len(marked) == 1
+        assert list(marked[0].text) == ["bench", "proposal &lt;b&gt;"]
+        if view is not None:
+            assert list(marked[0].x) == [bench[view.x_column], proposal[view.x_column]]
+            assert list(marked[0].marker.symbol) == ["star", "star-open"]
+    page = build_report(run_dir).read_text("utf-8")
+    assert "reference designs" in page

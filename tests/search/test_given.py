@@ -1,0 +1,123 @@
+"""Given designs: `optimag evaluate` and [[reference_designs]] use the search's own model
+and reproduce the search's short-list record of the same design."""
+
+import json
+
+import pytest
+
+from optimag.catalog import load_catalog
+from optimag.cli import main
+from optimag.errors import InputError
+from optimag.search.given import GivenDesign, evaluate_given, reference_design_records
+from optimag.search.run import explore
+from optimag.spec import load_study
+from tests.search.conftest import write_tiny_study
+
+# Fields that belong to a design's place in a run (its id, rank and knee flag), not to it.
+RUN_PLACE = {"design_id", "rank", "knee"}
+
+
+@pytest.fixture(scope="module")
+def tiny_run(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("given")
+    study = load_study(write_tiny_study(folder))
+    result = explore(study, top=6)
+    assert result.shortlist_records
+    # The short-list as written to shortlist.json (JSON round trip).
+    records = json.loads(json.dumps(result.shortlist_records))
+    return study, result.catalog, records
+
+
+def _args(record):
+    return ["--core", record["core"], "--material", record["material"], "--turns",
+            str(record["turns"]), "--wire", record["wire"], "--parallel",
+            str(record["parallel"]), "--stack", str(record["stack"])]
+
+
+def test_evaluate_json_reproduces_the_shortlist_record(tiny_run, capsys):
+    study, _, records = tiny_run
+    for record in records[:3]:
+        code = main(["evaluate", str(study.path), *_args(record), "--json"])
+        printed = json.loads(capsys.readouterr().out)
+        assert code == 0  # short-listed designs meet every constraint
+        assert printed.keys() == record.keys()
+        assert {k: v for k, v in printed.items() if k not in RUN_PLACE} == {
+            k: v for k, v in record.items() if k not in RUN_PLACE
+        }
+
+
+def test_evaluate_with_the_records_gap_gives_its_figures(tiny_run):
+    """A given gap (the record's, rounded to 6 digits) lands on the same design."""
+    study, catalog, records = tiny_run
+    record = records[0]
+    design = GivenDesign(record["core"], record["material"], record["turns"], record["wire"],
+                         record["parallel"], record["stack"], gap_mm=record["gap_mm"])
+    result = evaluate_given(study, catalog, design)
+    for key in ("inductance_uH", "total_loss_W", "temperature_C", "peak_flux_T"):
+        assert result.record[key] == pytest.approx(record[key], rel=1e-4)
+    assert result.violated == []
+
+
+def test_evaluate_names_the_violated_constraints(tiny_run, capsys):
+    study, _, records = tiny_run
+    record = records[0]
+    # Few turns on the smallest core: the solved gap cannot hold the flux.
+    args = _args(record)
+    args[args.index("--turns") + 1] = "8"
+    args[args.index("--core") + 1] = "E-shape-17"
+    args[args.index("--material") + 1] = "fer-lowf"
+    code = main(["evaluate", str(study.path), *args])
+    captured = capsys.readouterr()
+    assert code == 1
+    assert "violates:" in captured.err and "saturation" in captured.err
+    assert "saturation" in captured.out and "violated" in captured.out
+
+
+@pytest.mark.parametrize(
+    ("change", "field"),
+    [(("--core", "E-shape-99"), "--core"), (("--wire", "awg-99"), "--wire"),
+     (("--stack", "9"), "--stack")],
+)
+def test_evaluate_bad_input_exits_2_naming_the_field(tiny_run, capsys, change, field):
+    study, _, records = tiny_run
+    args = _args(records[0])
+    args[args.index(change[0]) + 1] = change[1]
+    code = main(["evaluate", str(study.path), *args])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert f"command line: {field}: " in err and "Traceback" not in err
+
+
+def test_gap_on_a_powder_core_is_bad_input(tiny_run):
+    study, catalog, _ = tiny_run
+    design = GivenDesign("E-shape-20", "pwd-60u", 20, "awg-22", gap_mm=0.3)
+    with pytest.raises(InputError, match="gap_mm"):
+        evaluate_given(study, catalog, design)
+
+
+def test_reference_designs_of_a_study(tmp_path, tiny_run):
+    _, _, records = tiny_run
+    record = records[0]
+    extra = f"""
+[[reference_designs]]
+name = "bench"
+core = "{record['core']}"
+material = "{record['material']}"
+turns = {record['turns']}
+wire = "{record['wire']}"
+parallel = {record['parallel']}
+stack = {record['stack']}
+
+[[reference_designs]]
+name = "proposal"
+core = "E-shape-17"
+material = "fer-lowf"
+turns = 8
+wire = "awg-22"
+gap_mm = 0.2
+"""
+    study = load_study(write_tiny_study(tmp_path, extra=extra))
+    refs = reference_design_records(study, load_catalog(study.catalog.path))
+    assert [r["design_id"] for r in refs] == ["bench", "proposal"]
+    assert refs[0]["total_loss_W"] == record["total_loss_W"] and refs[0]["violated"] == []
+    assert refs[1]["gap_mm"] == 0.2 and refs[1]["violated"]
