@@ -13,8 +13,8 @@ __all__ = ["__version__", "explore", "load_catalog", "load_study", "write_run"]
 
 
 def load_study(path):
-    """Read and validate a study file (see `optimag.spec.load_study`)."""
-    from optimag.spec import load_study as _load_study
+    """Read and validate a study file (see `optimag.study.load_study`)."""
+    from optimag.study import load_study as _load_study
 
     return _load_study(path)
 

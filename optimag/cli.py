@@ -46,7 +46,7 @@ def _print_problems(problems: list[Problem]) -> None:
 def _check(path_text: str) -> int:
     from optimag.catalog import load_catalog
     from optimag.search.run import check_study_against_catalog
-    from optimag.spec import load_study
+    from optimag.study import load_study
 
     path = Path(path_text)
     try:
@@ -81,8 +81,8 @@ EXIT_OK, EXIT_INFEASIBLE, EXIT_REFUSED, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 
 
 def _defaults_lines(study) -> list[str]:
     """What `check` says about the keys the study leaves out."""
-    from optimag.spec import applied_defaults
-    from optimag.spec.reference import toml_value, unit_of
+    from optimag.study import applied_defaults
+    from optimag.study.reference import toml_value, unit_of
 
     applied, unset = [], []
     document = tomllib.loads(study.source_text) if study.source_text else {}
@@ -119,7 +119,7 @@ def _defaults_lines(study) -> list[str]:
 
 
 def _init(args) -> int:
-    from optimag.spec.template import study_slug, study_template
+    from optimag.study.template import study_slug, study_template
 
     target = Path(args.name if args.name.endswith(".toml") else f"{args.name}.toml")
     name = study_slug(target.stem)
@@ -179,7 +179,7 @@ def _explore(args) -> int:
     from optimag.catalog import load_catalog
     from optimag.runfolder import continues_optuna_run, default_run_dir
     from optimag.search.run import check_study_against_catalog
-    from optimag.spec import load_study
+    from optimag.study import load_study
 
     console = Console(stderr=True)
     try:
@@ -345,7 +345,7 @@ def _evaluate(args) -> int:
     from optimag import records
     from optimag.catalog import load_catalog
     from optimag.search.given import GivenDesign, evaluate_given
-    from optimag.spec import load_study
+    from optimag.study import load_study
 
     study = load_study(Path(args.study))
     catalog = load_catalog(study.catalog.path)

@@ -32,7 +32,7 @@ import pandas as pd
 from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import coreloss, geometry, magnetic, sizing, thermal, winding
-from optimag.spec.waveform import current_shape_from_voltages, pulse_harmonics
+from optimag.study.waveform import current_shape_from_voltages, pulse_harmonics
 
 #: Constraint names in the order a candidate's elimination is attributed.
 CONSTRAINTS = (
@@ -322,7 +322,7 @@ class OperatingArrays:
 
     @classmethod
     def from_waveforms(cls, waveforms, topology: str) -> OperatingArrays:
-        from optimag.spec.waveform import inductor_voltages
+        from optimag.study.waveform import inductor_voltages
 
         rise_V, fall_V, _ = inductor_voltages(
             topology, [w.input_V for w in waveforms], [w.output_V for w in waveforms], 0.0
@@ -470,7 +470,7 @@ def _finite_or_inf(value) -> float:
 
 def build_design_space(study, catalog) -> DesignSpace:
     """Gather the study's requirements and the (filtered) catalogue into SI arrays."""
-    from optimag.spec import operating_waveforms
+    from optimag.study import operating_waveforms
 
     search = study.search
     cores, materials, wires = catalog.cores, catalog.materials, catalog.wires

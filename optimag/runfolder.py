@@ -22,7 +22,7 @@ from optimag import files
 from optimag.report import export
 from optimag.report.html import REPORT_NAME
 from optimag.search.run import ExploreResult
-from optimag.spec.study import runnable_study_text
+from optimag.study.file import runnable_study_text
 
 __all__ = ["RUN_FILES", "default_run_dir", "write_run"]
 

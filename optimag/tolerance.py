@@ -36,7 +36,7 @@ import numpy as np
 import pandas as pd
 
 from optimag import model
-from optimag.spec.tolerance import Spread, ToleranceSpec
+from optimag.study.tolerance import Spread, ToleranceSpec
 
 #: Ambient values closer than this share one evaluation of the thermal balance [K].
 AMBIENT_STEP_K = 0.25

@@ -24,7 +24,7 @@ from hypothesis import strategies as st
 from optimag.catalog import check_catalog, load_catalog
 from optimag.cli import main
 from optimag.errors import InputError
-from optimag.spec import load_study
+from optimag.study import load_study
 
 BASE_CATALOGUE = Path(__file__).resolve().parent / "catalog" / "malformed" / "base"
 

@@ -8,7 +8,7 @@ import pytest
 from optimag import model
 from optimag.catalog import load_catalog
 from optimag.search.exhaustive import magnetic_grid
-from optimag.spec import load_study
+from optimag.study import load_study
 
 
 @pytest.fixture

@@ -18,7 +18,7 @@ from optimag.catalog import load_catalog
 from optimag.errors import InputError
 from optimag.physics import coreloss
 from optimag.search.exhaustive import magnetic_grid
-from optimag.spec import load_study
+from optimag.study import load_study
 from tests.search.conftest import DEMO_CATALOG, write_tiny_study
 
 RELAX = {"relax_k": 2.0e-3, "relax_alpha": 1.2, "relax_beta": 2.1, "relax_tau_us": 4.0,

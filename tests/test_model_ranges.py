@@ -11,7 +11,7 @@ from optimag import model, records
 from optimag.catalog import load_catalog
 from optimag.errors import InputError
 from optimag.search.exhaustive import explore_exhaustive, magnetic_grid
-from optimag.spec import load_study
+from optimag.study import load_study
 from tests.search.conftest import write_tiny_study
 
 ROOT = Path(__file__).resolve().parents[1]

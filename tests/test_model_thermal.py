@@ -15,7 +15,7 @@ from optimag import model
 from optimag.catalog import load_catalog
 from optimag.physics import thermal
 from optimag.search.exhaustive import magnetic_grid
-from optimag.spec import load_study
+from optimag.study import load_study
 
 MODES = {
     "free_air": {},

@@ -17,8 +17,8 @@ from optimag import model
 from optimag.catalog import load_catalog
 from optimag.physics import coreloss
 from optimag.search.exhaustive import explore_exhaustive, magnetic_grid
-from optimag.spec import load_study
-from optimag.spec.waveform import converter_waveform, piecewise_linear_harmonics
+from optimag.study import load_study
+from optimag.study.waveform import converter_waveform, piecewise_linear_harmonics
 from tests.search.conftest import write_tiny_study
 
 # Per topology: (input_V, output_V) and the loads of a heavy and a light point.

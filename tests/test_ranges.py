@@ -8,8 +8,8 @@ from pathlib import Path
 
 from optimag.catalog.tables import TABLES
 from optimag.catalog.tables import range_table_markdown as catalog_ranges
-from optimag.spec.custom_core import CustomCore
-from optimag.spec.study import _SECTION_MODELS, field_range, range_table_markdown
+from optimag.study.custom_core import CustomCore
+from optimag.study.file import _SECTION_MODELS, field_range, range_table_markdown
 
 ROOT = Path(__file__).resolve().parents[1]
 NUMERIC = (int, float)

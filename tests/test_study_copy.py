@@ -11,8 +11,8 @@ import pandas as pd
 
 from optimag.catalog import load_catalog
 from optimag.cli import main
-from optimag.spec import load_study, parse_study
-from optimag.spec.study import runnable_study_text
+from optimag.study import load_study, parse_study
+from optimag.study.file import runnable_study_text
 from tests.search.conftest import DEMO_CATALOG, write_tiny_study
 
 

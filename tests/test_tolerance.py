@@ -19,8 +19,8 @@ from scipy.stats import norm
 
 from optimag import model, tolerance
 from optimag.catalog import load_catalog
-from optimag.spec import load_study
-from optimag.spec.tolerance import ToleranceSpec
+from optimag.study import load_study
+from optimag.study.tolerance import ToleranceSpec
 
 ROOT = Path(__file__).resolve().parents[1]
 MU_0 = 4e-7 * np.pi  # H/m, the defined value before the 2019 SI revision

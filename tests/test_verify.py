@@ -9,7 +9,7 @@ import pytest
 from optimag.cli import main
 from optimag.runfolder import write_run
 from optimag.search.run import explore
-from optimag.spec import load_study
+from optimag.study import load_study
 from tests.search.conftest import write_tiny_study
 
 fem = pytest.importorskip("optimag.fem")

@@ -34,7 +34,7 @@ import numpy as np
 from optimag import model, tolerance
 from optimag.ranges import MEMORY_BUDGET_BYTES
 from optimag.search.pareto import RunningFront
-from optimag.spec.tolerance import ToleranceSpec
+from optimag.study.tolerance import ToleranceSpec
 
 CANDIDATE_FIELDS = tuple(f.name for f in dataclasses.fields(model.Candidates))
 

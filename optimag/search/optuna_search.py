@@ -110,7 +110,7 @@ if TYPE_CHECKING:
 
     from optimag.catalog import Catalog
     from optimag.search.run import ExploreResult
-    from optimag.spec import Study
+    from optimag.study import Study
 
 _CUSTOM_PARAM_PREFIX = "custom_"
 
@@ -1318,7 +1318,7 @@ def explore_optuna(
     """
     from optimag.catalog import load_catalog
     from optimag.search.run import check_study_against_catalog
-    from optimag.spec import load_study
+    from optimag.study import load_study
 
     if not hasattr(study, "search"):
         study = load_study(Path(study))
@@ -1368,7 +1368,7 @@ def load_problem_from_storage(
     """Rebuild the study, catalogue and problem of an optuna study from its user attrs
     (or from ``study_file``), checking that the catalogue is the one the study used."""
     from optimag.catalog import load_catalog
-    from optimag.spec import load_study, parse_study
+    from optimag.study import load_study, parse_study
 
     attrs = ostudy.user_attrs
     if ATTR_STUDY_TEXT not in attrs:

@@ -116,7 +116,7 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     InputError unless ``force``.
     """
     from optimag.catalog import load_catalog
-    from optimag.spec import load_study
+    from optimag.study import load_study
 
     if not hasattr(study, "search"):
         study = load_study(Path(study))

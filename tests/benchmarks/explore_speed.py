@@ -31,7 +31,7 @@ import numpy as np
 from optimag import model
 from optimag.catalog import load_catalog
 from optimag.search.exhaustive import explore_exhaustive, magnetic_grid
-from optimag.spec import load_study
+from optimag.study import load_study
 
 study = load_study(sys.argv[1])
 catalog = load_catalog(study.catalog.path)

@@ -83,7 +83,7 @@ else:
     from optimag import model
     from optimag.catalog import load_catalog
     from optimag.search.exhaustive import explore_exhaustive, plan
-    from optimag.spec import load_study
+    from optimag.study import load_study
     study = load_study(Path(arg))
     catalog = load_catalog(study.catalog.path)
     result["load_s"] = round(time.perf_counter() - started, 1)
@@ -140,7 +140,7 @@ def wide_space(folder: Path) -> Path:
     from optimag import model
     from optimag.catalog import load_catalog
     from optimag.search.exhaustive import space_size
-    from optimag.spec import load_study
+    from optimag.study import load_study
 
     catalog = load_catalog(DEMO)
     path = folder / "wide.toml"

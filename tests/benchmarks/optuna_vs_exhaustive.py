@@ -33,7 +33,7 @@ from optimag.errors import ValidityRangeWarning
 from optimag.search import optuna_search as osearch
 from optimag.search.pareto import hypervolume, nondominated_mask
 from optimag.search.run import explore
-from optimag.spec import load_study
+from optimag.study import load_study
 
 ROOT = Path(__file__).resolve().parents[2]
 CHECKPOINTS = (500, 1000, 2000, 3000)

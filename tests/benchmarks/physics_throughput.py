@@ -21,7 +21,7 @@ import pandas as pd
 from optimag import model
 from optimag.physics.winding import awg_diameter_m
 from optimag.search.exhaustive import explore_exhaustive
-from optimag.spec.waveform import converter_waveform
+from optimag.study.waveform import converter_waveform
 
 RNG = np.random.default_rng(2026)
 

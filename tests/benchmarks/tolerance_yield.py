@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from optimag.search.run import explore
-from optimag.spec import load_study
+from optimag.study import load_study
 
 ROOT = Path(__file__).resolve().parents[2]
 

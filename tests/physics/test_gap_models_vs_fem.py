@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from optimag.physics import magnetic
-from optimag.spec.study import ModelChoices
+from optimag.study.file import ModelChoices
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from gap_reference import reference_rows, relative_errors

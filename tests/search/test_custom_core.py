@@ -11,7 +11,7 @@ from scipy.integrate import quad
 
 from optimag.errors import ValidityRangeWarning
 from optimag.search import custom_core as cc
-from optimag.spec import custom_core as spec
+from optimag.study import custom_core as spec
 
 MM, MM2, MM3 = 1e-3, 1e-6, 1e-9
 

@@ -11,7 +11,7 @@ from optimag.catalog import load_catalog
 from optimag.search.exhaustive import explore_exhaustive, magnetic_grid, space_size
 from optimag.search.pareto import dominated_by_any
 from optimag.search.run import explore
-from optimag.spec import load_study
+from optimag.study import load_study
 
 
 def _space(path):

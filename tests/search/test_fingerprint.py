@@ -13,7 +13,7 @@ from optimag.catalog import load_catalog
 from optimag.errors import StorageError
 from optimag.search import optuna_search as osearch
 from optimag.search.fingerprint import fingerprint_changes, fingerprint_content, study_fingerprint
-from optimag.spec import load_study
+from optimag.study import load_study
 
 TIGHTER = {
     "max_temperature_C = 100": "max_temperature_C = 80\nmax_loss_W = 0.6",

@@ -10,7 +10,7 @@ from optimag.cli import main
 from optimag.errors import InputError
 from optimag.search.given import GivenDesign, evaluate_given, reference_design_records
 from optimag.search.run import explore
-from optimag.spec import load_study
+from optimag.study import load_study
 from tests.search.conftest import write_tiny_study
 
 # Fields that belong to a design's place in a run (its id, rank and knee flag), not to it.

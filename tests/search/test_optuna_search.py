@@ -20,7 +20,7 @@ from optimag.errors import StorageError
 from optimag.search import optuna_search as osearch
 from optimag.search.pareto import dominated_by_any
 from optimag.search.run import explore
-from optimag.spec import load_study
+from optimag.study import load_study
 
 CUSTOM_E = """
 [custom_core]

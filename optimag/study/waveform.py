@@ -21,7 +21,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 if TYPE_CHECKING:
-    from optimag.spec.study import Study
+    from optimag.study.file import Study
 
 Topology = Literal["buck", "boost", "buck-boost"]
 TOPOLOGIES: tuple[str, ...] = ("buck", "boost", "buck-boost")

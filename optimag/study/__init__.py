@@ -1,6 +1,6 @@
 """Study files and converter waveforms: what the inductor must do."""
 
-from optimag.spec.study import (
+from optimag.study.file import (
     CatalogRef,
     Converter,
     Cost,
@@ -16,7 +16,7 @@ from optimag.spec.study import (
     load_study,
     parse_study,
 )
-from optimag.spec.waveform import (
+from optimag.study.waveform import (
     InductorCurrentShape,
     Waveform,
     ccm_duty_ratio,

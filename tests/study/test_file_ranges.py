@@ -10,7 +10,7 @@ import pytest
 
 from optimag.cli import main
 from optimag.errors import InputError
-from optimag.spec import load_study
+from optimag.study import load_study
 
 STUDIES = Path(__file__).resolve().parents[2] / "studies"
 

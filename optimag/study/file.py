@@ -70,9 +70,9 @@ from optimag.ranges import (
     VOLTAGE_V,
     VOLUME_CM3,
 )
-from optimag.spec.custom_core import CUSTOM_DIMENSIONS, CustomCore
-from optimag.spec.tolerance import SPREAD_DEFAULTS, ToleranceSpec
-from optimag.spec.waveform import ccm_ripple_inductance
+from optimag.study.custom_core import CUSTOM_DIMENSIONS, CustomCore
+from optimag.study.tolerance import SPREAD_DEFAULTS, ToleranceSpec
+from optimag.study.waveform import ccm_ripple_inductance
 
 # Strict numbers: TOML already types its values, so "12" must stay an error rather than
 # be coerced, and nan/inf (legal TOML) are rejected. Every number also has a plausible
@@ -119,7 +119,7 @@ TIME_SHARE_TOLERANCE = 1e-6
 
 class _Section(BaseModel):
     # The docstring under each field is its description in the study-file reference
-    # (`optimag.spec.reference`).
+    # (`optimag.study.reference`).
     model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
 
 
@@ -489,7 +489,7 @@ class Study(_Section):
         Either ``inductance_uH`` or, from the ripple fraction r at the ripple point,
         ``L = V_r D / (f r I_L)`` with the CCM relations of Erickson & Maksimović,
         Fundamentals of Power Electronics, ch. 2 (see
-        `optimag.spec.waveform.ccm_ripple_inductance`).
+        `optimag.study.waveform.ccm_ripple_inductance`).
         """
         if self.inductor.inductance_uH is not None:
             return self.inductor.inductance_uH * 1e-6

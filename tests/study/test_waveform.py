@@ -16,7 +16,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.integrate import quad
 
-from optimag.spec import (
+from optimag.study import (
     ccm_duty_ratio,
     ccm_ripple_inductance,
     converter_waveform,

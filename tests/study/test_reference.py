@@ -5,10 +5,10 @@ from pathlib import Path
 
 import pytest
 
-from optimag.spec import applied_defaults, load_study
-from optimag.spec.reference import schema_keys, study_reference, unit_of
-from optimag.spec.study import _SECTION_MODELS
-from optimag.spec.template import TEMPLATE_POINTS, study_slug, study_template
+from optimag.study import applied_defaults, load_study
+from optimag.study.file import _SECTION_MODELS
+from optimag.study.reference import schema_keys, study_reference, unit_of
+from optimag.study.template import TEMPLATE_POINTS, study_slug, study_template
 
 REPO = Path(__file__).resolve().parents[2]
 REFERENCE = REPO / "studies" / "REFERENCE.md"
@@ -17,7 +17,7 @@ DEMO = REPO / "catalogs" / "demo"
 
 def test_reference_file_is_up_to_date():
     assert REFERENCE.read_text(encoding="utf-8") == study_reference(), (
-        "regenerate with: python -m optimag.spec.reference studies/REFERENCE.md"
+        "regenerate with: python -m optimag.study.reference studies/REFERENCE.md"
     )
 
 

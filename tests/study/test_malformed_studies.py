@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from optimag.errors import InputError
-from optimag.spec import load_study
+from optimag.study import load_study
 
 CORPUS = sorted((Path(__file__).resolve().parent / "malformed").glob("*.toml"))
 EXPECT_PREFIX = "# expect:"

@@ -18,7 +18,7 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 from optimag.errors import InputError
-from optimag.spec import Study, load_study, operating_waveforms, parse_study
+from optimag.study import Study, load_study, operating_waveforms, parse_study
 
 REPO = Path(__file__).resolve().parents[2]
 STUDIES = REPO / "studies"
