@@ -31,7 +31,16 @@ import pandas as pd
 
 from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
-from optimag.physics import coreloss, geometry, magnetic, sizing, thermal, winding
+from optimag.physics import (
+    coreloss,
+    geometry,
+    heat_balance,
+    heat_paths,
+    magnetic,
+    sizing,
+    thermal,
+    winding,
+)
 from optimag.study.waveform import current_shape_from_voltages, pulse_harmonics
 
 #: Constraint names in the order a candidate's elimination is attributed.
@@ -1176,7 +1185,7 @@ def thermal_setup(
     """How each candidate sheds heat under the study's cooling, for the thermal solver.
 
     Returns (reference temperature [degC], keyword arguments of
-    `thermal.loss_temperature_fixed_point` other than the loss, per-candidate flag "the
+    `heat_balance.loss_temperature_fixed_point` other than the loss, per-candidate flag "the
     conduction model is inside its range"); arrays are per candidate, shape (n,).
     """
     req, cool, c = space.requirements, space.requirements.cooling, space.cores
@@ -1197,16 +1206,16 @@ def thermal_setup(
     if cool.mode == "forced_air":
         kwargs["air_speed_m_s"] = cool.air_speed_m_s
     elif cool.mode == "on_board":
-        g_board = cool.board_path_factor * thermal.board_conductance(
+        g_board = cool.board_path_factor * heat_paths.board_conductance(
             geometry.footprint(length, width), wdg["copper_area_m2"], cool.board_copper_area_m2
         )
         kwargs["fixed_conductance_W_K"] = g_board
         kwargs["heat_offset_W"] = g_board * (cool.board_temperature_C - req.ambient_C)
     elif cool.mode == "enclosure":
-        kwargs["enclosure"] = thermal.Enclosure(cool.enclosure_volume_m3, cool.core_emissivity)
+        kwargs["enclosure"] = heat_paths.Enclosure(cool.enclosure_volume_m3, cool.core_emissivity)
     elif cool.mode == "potted":
         t = cool.potting_thickness_m
-        shape, inside = thermal.potting_shape_factor(length, width, height, t)
+        shape, inside = heat_paths.potting_shape_factor(length, width, height, t)
         if cool.potting_shape == "faces_only":
             shape = (length * width + 2.0 * (length + width) * height) / t
         elif cool.potting_shape == "outer_faces":
@@ -1243,12 +1252,12 @@ def certainly_too_hot(
     offset = kwargs.pop("heat_offset_W", 0.0)
     enclosure = kwargs.pop("enclosure", None)
     model_name = kwargs.pop("model")
-    q_max = thermal.heat_shed(
+    q_max = heat_balance.heat_shed(
         t_max - t_a, t_a, kwargs.pop("surface_m2"), kwargs.pop("height_m"),
         kwargs.pop("emissivity"), model_name, kwargs.pop("ve_m3"), **kwargs,
     )
     if enclosure is not None:
-        q_max = np.minimum(q_max, thermal.enclosure_heat_shed(t_max - t_a, t_a, enclosure))
+        q_max = np.minimum(q_max, heat_paths.enclosure_heat_shed(t_max - t_a, t_a, enclosure))
     return np.any(p_min + np.asarray(offset)[..., None] > q_max[:, None], axis=1)
 
 
@@ -1260,19 +1269,19 @@ def hot_spot_rise(
 
     Winding: its loss generated evenly in a slab of the winding's build, cooled on its
     outer face only (the inner face on the bobbin taken as insulated), of area MLT x
-    window breadth, conducting across the layers (`thermal.winding_conductivity_across_layers`,
+    window breadth, conducting across the layers (`heat_paths.winding_conductivity_across_layers`,
     copper and insulation in series). Core: its loss generated evenly in the centre leg
     (ring: its cross-section), conducted to both faces across the smaller side of the leg
-    (`thermal.slab_generation_rise`, plane wall with generation). Common-practice geometry
+    (`heat_paths.slab_generation_rise`, plane wall with generation). Common-practice geometry
     (no source); the conduction laws from Incropera et al., 6th ed., ch. 3."""
     c, w = space.cores, space.wires
     pitch = w.outer_m[wire]
     copper = np.where(w.kind[wire] == 2, w.foil_thickness_m[wire],
                       w.copper_area_m2[wire] / np.maximum(pitch, 1e-12))
-    k_winding = thermal.winding_conductivity_across_layers(pitch, copper)
+    k_winding = heat_paths.winding_conductivity_across_layers(pitch, copper)
     area = wdg["mlt_m"] * c.breadth_m[core]
     build = wdg["build_m"]
-    winding_rise = thermal.slab_generation_rise(
+    winding_rise = heat_paths.slab_generation_rise(
         winding_loss_W, build[:, None], area[:, None], k_winding[:, None]
     )
     family = c.family[core]
@@ -1284,8 +1293,8 @@ def hot_spot_rise(
     side = np.where(family == 2, np.minimum(c.leg_width_m[core], c.height_m[core] * stack_f), side)
     half = 0.5 * side
     ve = c.ve_m3[core] * stack_f
-    core_rise = thermal.slab_generation_rise(
-        core_loss_W, half[:, None], (ve / half)[:, None], thermal.CORE_CONDUCTIVITY_W_MK
+    core_rise = heat_paths.slab_generation_rise(
+        core_loss_W, half[:, None], (ve / half)[:, None], heat_paths.CORE_CONDUCTIVITY_W_MK
     )
     return winding_rise, core_rise
 
@@ -1317,7 +1326,7 @@ def combine_stage(
         name: (value[:, None] if isinstance(value, np.ndarray) and value.ndim == 1 else value)
         for name, value in kwargs.items()
     }
-    fixed = thermal.loss_temperature_fixed_point(reference_C, (a0, a1, a2), **per_point)
+    fixed = heat_balance.loss_temperature_fixed_point(reference_C, (a0, a1, a2), **per_point)
     temperature = fixed.temperature_C
     runaway = fixed.runaway
     safe_t = np.where(runaway, req.max_temperature_C, temperature)

@@ -13,7 +13,7 @@ import pytest
 
 from optimag import model
 from optimag.catalog import load_catalog
-from optimag.physics import thermal
+from optimag.physics import heat_paths, thermal
 from optimag.search.exhaustive import magnetic_grid
 from optimag.study import load_study
 
@@ -143,21 +143,22 @@ def test_heat_balances_by_hand(tiny_space):
         ambient = space.requirements.ambient_C
         if mode == "potted":
             # Compound: P = k S (T - T_wall), S of Incropera Table 4.1 (cases 8 and 9).
-            s, _ = thermal.potting_shape_factor(length, width, height, 3e-3)
+            s, _ = heat_paths.potting_shape_factor(length, width, height, 3e-3)
             np.testing.assert_allclose(loss, 0.6 * s * (t - 50.0), rtol=1e-6)
             continue
         _, kwargs, _ = model.thermal_setup(space, cands.core[i], cands.stack[i],
                                            {k: v[i] for k, v in metrics.items()})
         air_C = ambient
         if mode == "enclosure":
-            air_C = ambient + thermal.enclosure_air_rise(loss, ambient, thermal.Enclosure(800e-6))
+            box = heat_paths.Enclosure(800e-6)
+            air_C = ambient + heat_paths.enclosure_air_rise(loss, ambient, box)
         part = thermal.ThermalContext(
             air_C, 0.0, height, kwargs["emissivity"][:, None], None, length, width,
             settings.get("air_speed_m_s", 0.0),
         )
         shed = thermal.conductance_faces(t - air_C, part) * (t - air_C)
         if mode == "on_board":
-            g_board = thermal.board_conductance(
+            g_board = heat_paths.board_conductance(
                 length * width, metrics["copper_area_m2"][i, None], 600e-6
             )
             shed = shed + g_board * (t - 60.0)

@@ -13,6 +13,7 @@ from hypothesis.extra import numpy as hnp
 
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import geometry as g
+from optimag.physics import heat_balance
 from optimag.physics import thermal as th
 from optimag.physics import winding as w
 
@@ -111,13 +112,14 @@ def test_thermal_functions_finite(data, size):
         )
         for model in th.CONDUCTANCE_MODELS:
             sides = {"length_m": np.sqrt(surface) / 2, "width_m": np.sqrt(surface) / 3}
-            result = th.loss_temperature_fixed_point(
+            result = heat_balance.loss_temperature_fixed_point(
                 ambient, (a0, a1, a2), surface, height, model=model, ve_m3=ve, **sides
             )
             assert finite(result.temperature_C, result.loss_W, result.conductance_W_K)
             settled = ~result.runaway
             assert np.all(result.temperature_C[settled] >= ambient[settled] - 1e-9)
-            assert finite(th.temperature_rise(loss, surface, height, model, ve_m3=ve, **sides))
+            assert finite(heat_balance.temperature_rise(loss, surface, height, model, ve_m3=ve,
+                                                        **sides))
 
 
 @FAST

@@ -10,6 +10,7 @@ import pytest
 from scipy.optimize import brentq
 
 from optimag.errors import ValidityRangeWarning
+from optimag.physics import heat_balance
 from optimag.physics import thermal as th
 
 SIGMA = 5.670374419e-8  # Stefan-Boltzmann constant, CODATA 2018
@@ -158,7 +159,7 @@ def _conductance(model: str, rise, surface=SURFACE, height=HEIGHT, ve=VE, ambien
 @pytest.mark.parametrize("model", ["convection", "mclyman", "ferrite_rth"])
 def test_fixed_point_satisfies_heat_balance(model):
     # The steady state must satisfy P(T) = G(T) (T - T_a) (rel 1e-3), G from the laws.
-    result = th.loss_temperature_fixed_point(
+    result = heat_balance.loss_temperature_fixed_point(
         AMBIENT, (A0, A1, A2), SURFACE, HEIGHT, model=model, ve_m3=VE
     )
     assert not np.any(result.runaway)
@@ -169,7 +170,7 @@ def test_fixed_point_satisfies_heat_balance(model):
 
 
 def test_fixed_point_scalar_input_gives_scalar():
-    result = th.loss_temperature_fixed_point(25.0, (1.0, 0.004, 2e-5), 30e-4, 0.03)
+    result = heat_balance.loss_temperature_fixed_point(25.0, (1.0, 0.004, 2e-5), 30e-4, 0.03)
     assert np.ndim(result.temperature_C) == 0 and not result.runaway
     t = float(result.temperature_C)
     loss = 1.0 + 0.004 * t + 2e-5 * t**2
@@ -183,13 +184,14 @@ def test_constant_loss_matches_direct_formulas():
     # Losses giving rises of about 40 K, inside every model's range.
     loss = np.array([1.0, 2.0, 4.0])
     # Ferrite R_th: dT = P R_th exactly.
-    rise = th.temperature_rise(loss, SURFACE, HEIGHT, "ferrite_rth", ambient_C=AMBIENT, ve_m3=VE)
+    rise = heat_balance.temperature_rise(loss, SURFACE, HEIGHT, "ferrite_rth", ambient_C=AMBIENT,
+                                         ve_m3=VE)
     np.testing.assert_allclose(rise, loss * th.thermal_resistance_ferrite_core(VE), rtol=1e-9)
     # McLyman: the direct law.
-    rise = th.temperature_rise(loss, SURFACE, HEIGHT, "mclyman", ambient_C=AMBIENT)
+    rise = heat_balance.temperature_rise(loss, SURFACE, HEIGHT, "mclyman", ambient_C=AMBIENT)
     np.testing.assert_allclose(rise, th.temperature_rise_mclyman(loss, SURFACE), rtol=1e-6)
     # Convection + radiation: P = (h_c + h_r) S dT solved independently by scipy brentq.
-    rise = th.temperature_rise(loss, SURFACE, HEIGHT, ambient_C=AMBIENT)
+    rise = heat_balance.temperature_rise(loss, SURFACE, HEIGHT, ambient_C=AMBIENT)
     for i in range(loss.size):
 
         def surplus(dt, i=i):
@@ -199,13 +201,14 @@ def test_constant_loss_matches_direct_formulas():
             return h * SURFACE[i] * dt - loss[i]
 
         assert rise[i] == pytest.approx(brentq(surplus, 25.0, 500.0, xtol=1e-12), rel=1e-6)
-    assert th.temperature_rise(2.0, 30e-4, 0.03, ambient_C=AMBIENT) == pytest.approx(rise[1])
+    rise_alone = heat_balance.temperature_rise(2.0, 30e-4, 0.03, ambient_C=AMBIENT)
+    assert rise_alone == pytest.approx(rise[1])
 
 
 def test_newton_steps_and_bracketing_search_agree():
     # Two routes to the same equilibrium: tolerance 0 forces the scan-and-bisect search.
-    fast = th.loss_temperature_fixed_point(AMBIENT, (A0, A1, A2), SURFACE, HEIGHT)
-    slow = th.loss_temperature_fixed_point(
+    fast = heat_balance.loss_temperature_fixed_point(AMBIENT, (A0, A1, A2), SURFACE, HEIGHT)
+    slow = heat_balance.loss_temperature_fixed_point(
         AMBIENT, (A0, A1, A2), SURFACE, HEIGHT, max_iterations=1, tolerance=0.0
     )
     np.testing.assert_allclose(fast.temperature_C, slow.temperature_C, rtol=1e-9)
@@ -213,7 +216,7 @@ def test_newton_steps_and_bracketing_search_agree():
 
 def test_runaway_is_flagged_not_nan():
     # Ferrite R_th: loss slope 0.2 W/K above 1/R_th (~0.045 W/K) has no equilibrium.
-    result = th.loss_temperature_fixed_point(
+    result = heat_balance.loss_temperature_fixed_point(
         25.0,
         (np.array([1.0, 1.0]), np.array([0.2, 0.0]), 0.0),
         10e-4,
@@ -225,25 +228,28 @@ def test_runaway_is_flagged_not_nan():
     assert result.temperature_C[0] == th.RUNAWAY_TEMPERATURE_C
     assert np.all(np.isfinite(result.temperature_C)) and np.all(np.isfinite(result.loss_W))
     # Convection: a loss growing with T^2 far faster than the surface can shed it.
-    steep = th.loss_temperature_fixed_point(25.0, (1.0, 0.0, 0.01), 10e-4, 0.02)
+    steep = heat_balance.loss_temperature_fixed_point(25.0, (1.0, 0.0, 0.01), 10e-4, 0.02)
     assert steep.runaway and np.isfinite(steep.temperature_C) and np.isfinite(steep.loss_W)
 
 
 def test_fixed_point_rejects_unknown_model_and_missing_volume():
     with pytest.raises(ValueError, match="unknown thermal model"):
-        th.loss_temperature_fixed_point(25.0, (1.0, 0.0, 0.0), 1e-3, 0.02, model="forced_air")
+        heat_balance.loss_temperature_fixed_point(25.0, (1.0, 0.0, 0.0), 1e-3, 0.02,
+                                                  model="forced_air")
     with pytest.raises(ValueError, match="ve_m3"):
-        th.loss_temperature_fixed_point(25.0, (1.0, 0.0, 0.0), 1e-3, 0.02, model="ferrite_rth")
+        heat_balance.loss_temperature_fixed_point(25.0, (1.0, 0.0, 0.0), 1e-3, 0.02,
+                                                  model="ferrite_rth")
 
 
 def test_fixed_point_warns_when_final_state_is_out_of_range():
     with pytest.warns(ValidityRangeWarning):
-        th.loss_temperature_fixed_point(25.0, (5.0, 0.0, 0.0), 10e-4, 0.02, model="mclyman")
+        heat_balance.loss_temperature_fixed_point(25.0, (5.0, 0.0, 0.0), 10e-4, 0.02,
+                                                  model="mclyman")
 
 
 def test_temperature_rise_zero_loss_is_zero():
     # No loss, no rise; the convection law is then outside its range (Ra = 0) and says so.
     with pytest.warns(ValidityRangeWarning):
-        assert th.temperature_rise(0.0, 10e-4, 0.02) == pytest.approx(0.0, abs=1e-12)
-    assert th.temperature_rise(0.0, 10e-4, 0.02, "ferrite_rth", ve_m3=5e-6) == 0.0
-    assert math.isfinite(th.temperature_rise(0.0, 10e-4, 0.02, "mclyman"))
+        assert heat_balance.temperature_rise(0.0, 10e-4, 0.02) == pytest.approx(0.0, abs=1e-12)
+    assert heat_balance.temperature_rise(0.0, 10e-4, 0.02, "ferrite_rth", ve_m3=5e-6) == 0.0
+    assert math.isfinite(heat_balance.temperature_rise(0.0, 10e-4, 0.02, "mclyman"))

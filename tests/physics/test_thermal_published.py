@@ -24,7 +24,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from optimag.physics import thermal as th
+from optimag.physics import heat_balance
 
 DATA = Path(__file__).parents[1] / "data" / "mclyman_rise_vs_surface_dissipation.csv"
 
@@ -39,7 +39,7 @@ SHAPES_MM = [
 def _model_rise(psi_W_cm2: np.ndarray, length: float, width: float, height: float):
     surface = 2 * (length * width + length * height + width * height)
     loss = psi_W_cm2 * surface * 1e4
-    result = th.loss_temperature_fixed_point(
+    result = heat_balance.loss_temperature_fixed_point(
         25.0, (loss, 0.0, 0.0), surface, height, 0.9, "faces", length_m=length,
         width_m=width,
     )
