@@ -6,7 +6,7 @@ for any real part and narrow enough that no figure of the model overflows and no
 space becomes astronomically large. All bounds are inclusive (common practice, no source).
 
 The study file (`optimag.study.file`), the custom-core table (`optimag.study.custom_core`),
-the catalogue tables (`optimag.catalog.tables`) and the command line read their bounds
+the catalogue tables (`optimag.catalog.schema`) and the command line read their bounds
 from here; ``studies/README.md`` and ``catalogs/README.md`` list them (tested).
 This module imports nothing, so the command line can use it without loading numpy.
 """

@@ -6,8 +6,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from optimag.catalog.tables import TABLES
-from optimag.catalog.tables import range_table_markdown as catalog_ranges
+from optimag.catalog.schema import TABLES
+from optimag.catalog.schema import range_table_markdown as catalog_ranges
 from optimag.study.custom_core import CustomCore
 from optimag.study.file import _SECTION_MODELS, field_range, range_table_markdown
 
