@@ -8,11 +8,25 @@ published source supports.
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike
 
 
 class ValidityRangeWarning(UserWarning):
     """A physics model was evaluated outside the range its source supports."""
+
+
+def warn_outside_range(condition: ArrayLike, message: str) -> None:
+    """Warn once, with `ValidityRangeWarning`, where any element of `condition` is true.
+
+    Called by a physics function about its own inputs; the warning points at that
+    function's caller. One ``np.any`` per call, never a warning per element.
+    """
+    if np.any(condition):
+        warnings.warn(message, ValidityRangeWarning, stacklevel=3)
 
 
 @dataclass(frozen=True)

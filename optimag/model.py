@@ -32,7 +32,9 @@ import pandas as pd
 from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import (
+    ac_resistance,
     coreloss,
+    gap_field,
     geometry,
     heat_balance,
     heat_paths,
@@ -944,7 +946,7 @@ def winding_layout_stage(
         "violation_height": box_height / req.max_height_m - 1.0,
         "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
         "violation_volume": volume / req.max_volume_m3 - 1.0,
-        "outside_litz_model": (kind == 1) & winding.litz_outside_range(
+        "outside_litz_model": (kind == 1) & ac_resistance.litz_outside_range(
             w.strand_diameter_m[wire], space.operating.frequency_Hz, LITZ_CHECK_RESISTIVITY
         ),
     }
@@ -1063,9 +1065,9 @@ def _gap_loss_coefficient(space, wire, kind, core, layout, n_turns, n_par, harmo
     scales it by the square of the magnetic stage's ``gap_mmf_share``).
 
     Each layer's mean squared field in excess of the 1-D (Dowell) field,
-    `winding.gap_fringing_excess` (distances from the bobbin wall and the layer pitch the
+    `gap_field.gap_fringing_excess` (distances from the bobbin wall and the layer pitch the
     layout knows), times the exact transverse-field loss of its round conductors or litz
-    strands, `winding.round_conductor_transverse_loss`, summed over the layers, along the
+    strands, `gap_field.round_conductor_transverse_loss`, summed over the layers, along the
     mean turn length. Foil is left out (its low-frequency sheet formula has no support at
     practical widths; the record notes it)."""
     c, w = space.cores, space.wires
@@ -1087,11 +1089,11 @@ def _gap_loss_coefficient(space, wire, kind, core, layout, n_turns, n_par, harmo
         distance = wall + (layer + 0.5) * pitch
         fraction = 1.0 - (before + 0.5 * in_layer) / conductors
         with np.errstate(divide="ignore", invalid="ignore"):
-            excess = winding.gap_fringing_excess(distance, in_layer * pitch, height, fraction)
+            excess = gap_field.gap_fringing_excess(distance, in_layer * pitch, height, fraction)
         geometry_sum += np.where(in_layer > 0, in_layer * excess, 0.0)
         before += in_layer
     geometry = geometry_sum * strands * layout["mlt_m"] * n_turns**2 / height**2
-    per_field = winding.round_conductor_transverse_loss(
+    per_field = gap_field.round_conductor_transverse_loss(
         harmonic_freq[None, :], rho, diameter[:, None]
     )  # (n, H) W/m per (A/m)^2
     # Toroids have no discrete gap; foil is not estimated (see above).
@@ -1127,18 +1129,18 @@ def _ac_factors(space, wire, kind, per_layer, layers, n_turns, n_par, breadth, f
     for code in np.unique(kind):
         sel = kind == code
         if code == 0:
-            out[sel] = winding.round_wire_ac_factor(
+            out[sel] = ac_resistance.round_wire_ac_factor(
                 freq, rho, w.bare_diameter_m[wire[sel]][col], per_layer[sel][col],
                 breadth[sel][col], layers[sel][col],
             )
         elif code == 1:
             # Parallel bundles act as one bundle of strands x parallel strands.
-            out[sel] = winding.litz_ac_factor(
+            out[sel] = ac_resistance.litz_ac_factor(
                 freq, rho, (w.strands[wire[sel]] * n_par[sel])[col], n_turns[sel][col],
                 w.strand_diameter_m[wire[sel]][col], breadth[sel][col],
             )
         else:
-            out[sel] = winding.foil_ac_factor(
+            out[sel] = ac_resistance.foil_ac_factor(
                 freq, rho, w.foil_thickness_m[wire[sel]][col], layers[sel][col]
             )
     return out

@@ -30,7 +30,7 @@ import numpy as np
 from optimag.constants import MU0
 from optimag.errors import InputError, Problem
 from optimag.files import atomic_write_text
-from optimag.physics import magnetic, winding
+from optimag.physics import gap_field, magnetic
 
 #: Points across the winding at which the field is compared.
 FIELD_POINTS = 7
@@ -223,7 +223,7 @@ def _field_across_winding(gapped, section, ampere_turns: float, share: float) ->
     x0, x1 = coil.x0 - post, coil.x1 - post
 
     def closed_form(xl, yl):
-        h_x, h_y = winding.gap_fringing_field(xl, yl, height, gap_mmf)
+        h_x, h_y = gap_field.gap_fringing_field(xl, yl, height, gap_mmf)
         h_y = h_y - (xl - x0) / (x1 - x0) * ampere_turns / height
         return MU0 * np.hypot(h_x, h_y)
 

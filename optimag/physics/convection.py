@@ -12,9 +12,8 @@ from typing import NamedTuple
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from optimag.arrays import FloatArray
 from optimag.constants import STEFAN_BOLTZMANN, ZERO_CELSIUS_K
-
-FloatArray = np.floating | NDArray[np.floating]
 
 
 def _radiation_h(surface_C: ArrayLike, ambient_C: ArrayLike, emissivity: ArrayLike) -> FloatArray:

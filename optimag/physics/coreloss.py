@@ -6,15 +6,12 @@ arguments broadcast. SI units: frequency in Hz, flux density in T, loss in W/m^3
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 import numpy.typing as npt
 from scipy.special import gamma
 
-from optimag.errors import ValidityRangeWarning
-
-FloatArray = npt.NDArray[np.float64]
+from optimag.arrays import FloatArray
+from optimag.errors import warn_outside_range
 
 __all__ = [
     "core_loss_temperature_factor",
@@ -31,10 +28,6 @@ __all__ = [
 _TWO_PI = 2.0 * np.pi
 
 
-
-def _warn_if(condition: FloatArray | np.bool_ | bool, message: str) -> None:
-    if np.any(condition):
-        warnings.warn(message, ValidityRangeWarning, stacklevel=3)
 
 
 def steinmetz_loss_density(
@@ -195,7 +188,7 @@ def igse_loss_density_piecewise(
     alpha_arr = np.asarray(alpha, dtype=float)
     flux_steps = np.diff(flux, axis=-1)
     time_steps = np.diff(times, axis=-1)
-    _warn_if(
+    warn_outside_range(
         (time_steps <= 0.0) & (flux_steps != 0.0),
         "iGSE: a flux step in zero time has unbounded dB/dt",
     )
@@ -278,7 +271,7 @@ def igse_loss_density_triangle(
     fall = 1.0 - rise if fall_fraction is None else np.asarray(fall_fraction, dtype=float)
     swing = np.abs(np.asarray(delta_b_T, dtype=float))
     alpha_arr = np.asarray(alpha, dtype=float)
-    _warn_if(
+    warn_outside_range(
         ((rise <= 0.0) | (fall <= 0.0)) & (swing > 0.0),
         "iGSE: a flux step in zero time has unbounded dB/dt",
     )
@@ -337,7 +330,7 @@ def core_loss_temperature_factor(
     """
     temperature = np.asarray(temperature_C, dtype=float)
     factor = np.asarray(ct0) - np.asarray(ct1) * temperature + np.asarray(ct2) * temperature**2
-    _warn_if(factor < minimum, "core-loss temperature factor fell below its floor")
+    warn_outside_range(factor < minimum, "core-loss temperature factor fell below its floor")
     return np.maximum(factor, minimum)
 
 
@@ -423,7 +416,7 @@ def steinmetz_validity_check(
        vol. 9, pp. 1-64, 1892 (a power law is a local fit only).
     """
     inside = steinmetz_fit_excess(frequency_Hz, b_peak_T, f_min_Hz, f_max_Hz, b_max_T) <= 0.0
-    _warn_if(~inside, "Steinmetz coefficients used outside their fitted range")
+    warn_outside_range(~inside, "Steinmetz coefficients used outside their fitted range")
     return inside
 
 

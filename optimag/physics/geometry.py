@@ -10,12 +10,12 @@ from __future__ import annotations
 import warnings
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
+from optimag.arrays import FloatArray
 from optimag.constants import COPPER_DENSITY
 from optimag.errors import ValidityRangeWarning
 
-FloatArray = np.floating | NDArray[np.floating]
 Box = tuple[FloatArray, FloatArray, FloatArray]
 
 

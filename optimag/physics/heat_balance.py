@@ -9,6 +9,8 @@ from typing import NamedTuple
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from optimag.arrays import FloatArray
+from optimag.errors import warn_outside_range
 from optimag.physics.heat_paths import (
     _ENCLOSURE_RISES,
     Enclosure,
@@ -26,10 +28,7 @@ from optimag.physics.thermal import (
     ConductanceModel,
     ThermalContext,
     _mclyman_rise,
-    _warn_if,
 )
-
-FloatArray = np.floating | NDArray[np.floating]
 
 # --------------------------------------------------------------------------- equilibrium
 
@@ -442,7 +441,7 @@ def _fixed_point(
     inside = np.ones(count, dtype=bool)
     if np.any(found):
         inside[found] = inside_range(rise[found], _take(part, found))
-        _warn_if(~inside, RANGE_MESSAGES[model])
+        warn_outside_range(~inside, RANGE_MESSAGES[model])
     return ThermalEquilibrium(
         temperature.reshape(shape)[()],
         loss.reshape(shape)[()],

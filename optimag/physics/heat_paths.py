@@ -9,10 +9,9 @@ from typing import NamedTuple
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from optimag.arrays import FloatArray
 from optimag.physics.convection import face_coefficients
 from optimag.physics.thermal import RUNAWAY_CEILING_RISE_K
-
-FloatArray = np.floating | NDArray[np.floating]
 
 # --------------------------------------------------------------------------- conduction paths
 

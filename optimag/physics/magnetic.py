@@ -10,7 +10,6 @@ that `gap_for_inductance` solves any of them with one safeguarded Newton loop.
 
 from __future__ import annotations
 
-import warnings
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -18,10 +17,9 @@ import numpy as np
 import numpy.typing as npt
 from scipy.special import hyp2f1
 
+from optimag.arrays import FloatArray
 from optimag.constants import MU0
-from optimag.errors import ValidityRangeWarning
-
-FloatArray = npt.NDArray[np.float64]
+from optimag.errors import warn_outside_range
 
 __all__ = [
     "DEFAULT_GAP_MODEL",
@@ -58,10 +56,6 @@ _TWO_OVER_PI = 2.0 / np.pi
 #: 200-300 degC). Common practice, no source.
 BSAT_TEMPERATURE_RANGE_C = (-55.0, 150.0)
 
-
-def _warn_if(condition: FloatArray | np.bool_ | bool, message: str) -> None:
-    if np.any(condition):
-        warnings.warn(message, ValidityRangeWarning, stacklevel=3)
 
 
 # --------------------------------------------------------------------------- linear circuit
@@ -164,7 +158,7 @@ def fringing_factor_mclyman(
     ae = np.asarray(ae_m2, dtype=float)
     window = np.asarray(winding_length_m, dtype=float)
     side = np.sqrt(ae)
-    _warn_if(
+    warn_outside_range(
         _mclyman_outside(gap, GapGeometry(ae, window, side, side)),
         "McLyman fringing factor used with a gap longer than the winding length or "
         "the core's side; the estimate is unsupported there",
@@ -341,7 +335,7 @@ def gap_reluctance_muhlethaler(
     width = np.asarray(leg_width_m, dtype=float)
     depth = np.asarray(leg_depth_m, dtype=float)
     window = np.asarray(winding_length_m, dtype=float)
-    _warn_if(
+    warn_outside_range(
         _muhlethaler_outside(gap, GapGeometry(width * depth, window, width, depth)),
         "Muehlethaler gap reluctance used with a gap longer than the winding length or "
         "the leg's side; the 2-D basic reluctance is unsupported there",
@@ -632,7 +626,7 @@ def gap_reluctance_leg_edges(gap_m: npt.ArrayLike, geometry: GapGeometry) -> Flo
        DOI: 10.1109/ICPE.2011.5944575 (DOI from memory).
     """
     gap = np.asarray(gap_m, dtype=float)
-    _warn_if(
+    warn_outside_range(
         _leg_edges_outside(gap, geometry),
         "leg-edge gap model used beyond lg = 0.5 sqrt(A) or with a centre gap ground through "
         "the window; it was checked against field solutions only up to there",
@@ -826,7 +820,7 @@ def gap_for_inductance(
         # closed form: no fringing means R_g = lg / (mu0 Ae) exactly
         return np.where(reachable, lower, np.nan)
     gap = _solve_gap(target, lower, model, geometry)
-    _warn_if(
+    warn_outside_range(
         model.outside_range(gap, geometry),
         f"gap_for_inductance: the {fringing} gap model is used outside its range",
     )
@@ -1375,7 +1369,7 @@ def bsat_at_temperature(
     """
     temperature = np.asarray(temperature_C, dtype=float)
     low, high = BSAT_TEMPERATURE_RANGE_C
-    _warn_if(
+    warn_outside_range(
         (temperature < low) | (temperature > high),
         f"saturation flux density extrapolated outside {low:g} ... {high:g} degC",
     )

@@ -14,9 +14,8 @@ from __future__ import annotations
 import numpy as np
 import numpy.typing as npt
 
+from optimag.arrays import FloatArray
 from optimag.constants import COPPER_RESISTIVITY_20C
-
-FloatArray = npt.NDArray[np.float64]
 
 __all__ = [
     "area_product",

@@ -10,17 +10,15 @@ board, potting, winding and enclosure paths.
 
 from __future__ import annotations
 
-import warnings
 from collections.abc import Callable
 from typing import NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from optimag.errors import ValidityRangeWarning
+from optimag.arrays import FloatArray
+from optimag.errors import warn_outside_range
 from optimag.physics.convection import _radiation_h, face_coefficients
-
-FloatArray = np.floating | NDArray[np.floating]
 
 #: McLyman's law: dT = MCLYMAN_COEFFICIENT * psi ** MCLYMAN_EXPONENT, psi in W/cm^2.
 MCLYMAN_COEFFICIENT = 450.0
@@ -59,13 +57,9 @@ _BISECTIONS = 52
 _SLOPE_STEP = 1e-4
 
 
-def _warn_if(condition: ArrayLike, message: str) -> None:
-    if np.any(condition):
-        warnings.warn(message, ValidityRangeWarning, stacklevel=3)
-
 
 def _check_mclyman(rise_K: ArrayLike) -> None:
-    _warn_if(
+    warn_outside_range(
         np.asarray(rise_K) > MCLYMAN_MAX_RISE_K,
         f"McLyman temperature rise above {MCLYMAN_MAX_RISE_K} K, beyond the fitted curve",
     )
@@ -74,7 +68,7 @@ def _check_mclyman(rise_K: ArrayLike) -> None:
 def _check_ferrite_rth(ve_m3: ArrayLike) -> None:
     low, high = FERRITE_RTH_VE_RANGE_M3
     ve = np.asarray(ve_m3)
-    _warn_if(
+    warn_outside_range(
         (ve < low) | (ve > high),
         "ferrite thermal resistance: Ve outside 0.1..100 cm^3, beyond the fitted cores",
     )
@@ -83,7 +77,7 @@ def _check_ferrite_rth(ve_m3: ArrayLike) -> None:
 def _check_laminar(delta_T_K: ArrayLike, height_m: ArrayLike) -> None:
     low, high = LAMINAR_RAYLEIGH_RANGE
     rayleigh = AIR_RAYLEIGH_PER_K_M3 * np.asarray(delta_T_K) * np.asarray(height_m) ** 3
-    _warn_if(
+    warn_outside_range(
         (rayleigh < low) | (rayleigh > high),
         "natural convection: Rayleigh number outside the laminar range 1e4..1e9",
     )
@@ -91,7 +85,7 @@ def _check_laminar(delta_T_K: ArrayLike, height_m: ArrayLike) -> None:
 
 def _check_emissivity(emissivity: ArrayLike) -> None:
     e = np.asarray(emissivity)
-    _warn_if((e < 0.0) | (e > 1.0), "radiation: emissivity outside 0..1")
+    warn_outside_range((e < 0.0) | (e > 1.0), "radiation: emissivity outside 0..1")
 
 
 # --------------------------------------------------------------------------- kernels

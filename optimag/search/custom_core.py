@@ -36,9 +36,8 @@ from typing import NamedTuple
 import numpy as np
 import numpy.typing as npt
 
+from optimag.arrays import FloatArray
 from optimag.errors import ValidityRangeWarning
-
-FloatArray = npt.NDArray[np.float64]
 
 __all__ = [
     "MIN_WINDOW_TO_LEG_RATIO",

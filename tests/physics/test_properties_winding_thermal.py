@@ -12,6 +12,7 @@ from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
 from optimag.errors import ValidityRangeWarning
+from optimag.physics import ac_resistance as acr
 from optimag.physics import geometry as g
 from optimag.physics import heat_balance
 from optimag.physics import thermal as th
@@ -52,20 +53,20 @@ def test_winding_functions_finite(data, size):
     rho = w.copper_resistivity(temperature)
     skin = w.skin_depth(frequency, rho)
     assert finite(rho, skin, w.awg_diameter_m(data.draw(arrays(-3.0, 56.0, size))))
-    factor = w.dowell_factor(delta, layers)
+    factor = acr.dowell_factor(delta, layers)
     assert finite(factor) and np.all(factor >= 1.0 - 1e-12)
 
     layout = w.round_layout(turns, parallel, diameter, breadth, 10 * breadth)
     per_layer = np.maximum(layout.conductors_per_layer, 1.0)
     assert finite(layout.conductors_per_layer, layout.layers, layout.build_m)
     # Porosity stays below one by construction of the layout.
-    round_factor = w.round_wire_ac_factor(
+    round_factor = acr.round_wire_ac_factor(
         frequency, rho, diameter, per_layer, breadth, layout.layers
     )
     assert finite(round_factor) and np.all(round_factor >= 1.0 - 1e-12)
     foil = w.foil_layout(turns, parallel, diameter, 0.1 * diameter, breadth, breadth, breadth)
     assert finite(
-        foil.layers, foil.build_m, w.foil_ac_factor(frequency, rho, diameter, foil.layers)
+        foil.layers, foil.build_m, acr.foil_ac_factor(frequency, rho, diameter, foil.layers)
     )
 
     mlt = w.mean_turn_length(4 * breadth, 1e-3, layout.build_m)
@@ -77,8 +78,8 @@ def test_winding_functions_finite(data, size):
     with warnings.catch_warnings():
         # Thick strands at high harmonics leave Sullivan's range; finiteness still holds.
         warnings.simplefilter("ignore", ValidityRangeWarning)
-        litz = w.litz_ac_factor(frequency, rho, parallel, turns, diameter, breadth)
-        litz_direct = w.litz_factor(parallel, turns, diameter, breadth, skin)
+        litz = acr.litz_ac_factor(frequency, rho, parallel, turns, diameter, breadth)
+        litz_direct = acr.litz_factor(parallel, turns, diameter, breadth, skin)
     assert finite(litz, litz_direct)
 
     harmonics = data.draw(arrays(0.0, 100.0, (size, 3)))

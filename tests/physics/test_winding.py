@@ -12,6 +12,7 @@ from scipy.integrate import solve_bvp
 from scipy.spatial import ConvexHull
 
 from optimag.errors import ValidityRangeWarning
+from optimag.physics import ac_resistance as acr
 from optimag.physics import winding as w
 
 RHO_20C = 1.0 / 58.0e6  # IEC 60028, 1/58 Ohm mm^2/m (from memory)
@@ -76,7 +77,7 @@ def test_skin_depth_johnson_rule_of_thumb():
 
 def test_skin_depth_at_dc_is_infinite_and_ac_factor_is_one():
     assert np.isinf(w.skin_depth(0.0, RHO_20C))
-    assert w.foil_ac_factor(0.0, RHO_20C, 1e-3, 4.0) == 1.0
+    assert acr.foil_ac_factor(0.0, RHO_20C, 1e-3, 4.0) == 1.0
 
 
 # --------------------------------------------------------------------------- Dowell
@@ -93,11 +94,11 @@ def test_dowell_table_values_broadcast():
     deltas = np.array(list(DOWELL_TABLE))[:, None]
     layers = np.array([1.0, 2.0, 5.0])[None, :]
     expected = np.array(list(DOWELL_TABLE.values()))
-    np.testing.assert_allclose(w.dowell_factor(deltas, layers), expected, rtol=1e-6)
+    np.testing.assert_allclose(acr.dowell_factor(deltas, layers), expected, rtol=1e-6)
 
 
 def test_dowell_scalar():
-    assert w.dowell_factor(1.0, 2) == pytest.approx(1.406009, rel=1e-6)
+    assert acr.dowell_factor(1.0, 2) == pytest.approx(1.406009, rel=1e-6)
 
 
 def _dowell_by_field_diffusion(delta: float, layers: int) -> float:
@@ -131,7 +132,7 @@ def _dowell_by_field_diffusion(delta: float, layers: int) -> float:
 def test_dowell_against_independent_diffusion_solution(delta, layers):
     # Independent numerical solution (scipy solve_bvp) of the field diffusion, rel 1e-7.
     expected = _dowell_by_field_diffusion(delta, layers)
-    assert w.dowell_factor(delta, layers) == pytest.approx(expected, rel=1e-7)
+    assert acr.dowell_factor(delta, layers) == pytest.approx(expected, rel=1e-7)
 
 
 def test_dowell_low_frequency_series():
@@ -140,20 +141,20 @@ def test_dowell_low_frequency_series():
     # for Delta <= 0.2 (the Delta^8 term is below 1e-3 of it there, for any m).
     layers = np.array([1.0, 2.0, 5.0])
     series = 1.0 + (5.0 * layers**2 - 1.0) * 0.5**4 / 45.0
-    np.testing.assert_allclose(w.dowell_factor(0.5, layers), series, rtol=4e-4)
+    np.testing.assert_allclose(acr.dowell_factor(0.5, layers), series, rtol=4e-4)
     layers = np.array([1.0, 2.0, 5.0, 20.0])
     deltas = np.array([0.02, 0.05, 0.1, 0.2])[:, None]
-    excess = w.dowell_factor(deltas, layers) - 1.0
+    excess = acr.dowell_factor(deltas, layers) - 1.0
     np.testing.assert_allclose(excess, (5.0 * layers**2 - 1.0) * deltas**4 / 45.0, rtol=1e-3)
 
 
 def test_dowell_continuous_across_series_switch():
     # The series/closed-form switch must not show as a step.
-    below = np.nextafter(w.DOWELL_SERIES_LIMIT, 0.0)
+    below = np.nextafter(acr.DOWELL_SERIES_LIMIT, 0.0)
     layers = np.array([1.0, 3.0, 10.0, 50.0])
     np.testing.assert_allclose(
-        w.dowell_factor(below, layers),
-        w.dowell_factor(w.DOWELL_SERIES_LIMIT, layers),
+        acr.dowell_factor(below, layers),
+        acr.dowell_factor(acr.DOWELL_SERIES_LIMIT, layers),
         rtol=1e-12,
     )
 
@@ -163,21 +164,21 @@ def test_dowell_high_frequency_limit_without_overflow():
     deltas = np.array([30.0, 1e3, 1e6])
     layers = np.array([1.0, 4.0, 7.0])
     np.testing.assert_allclose(
-        w.dowell_factor(deltas, layers), deltas * (2.0 * layers**2 + 1.0) / 3.0, rtol=1e-12
+        acr.dowell_factor(deltas, layers), deltas * (2.0 * layers**2 + 1.0) / 3.0, rtol=1e-12
     )
 
 
 def test_dowell_at_zero_is_one():
-    assert w.dowell_factor(0.0, 3) == 1.0
+    assert acr.dowell_factor(0.0, 3) == 1.0
 
 
 def test_dowell_fractional_layers_warn_below_one():
     with pytest.warns(ValidityRangeWarning):
-        factor = w.dowell_factor(np.array([0.5, 2.0]), 0.5)
+        factor = acr.dowell_factor(np.array([0.5, 2.0]), 0.5)
     assert np.all(np.isfinite(factor)) and np.all(factor >= 1.0)
     # Non-integer m >= 1 is in range and lies between its integer neighbours.
-    f15 = w.dowell_factor(1.0, 1.5)
-    assert w.dowell_factor(1.0, 1.0) < f15 < w.dowell_factor(1.0, 2.0)
+    f15 = acr.dowell_factor(1.0, 1.5)
+    assert acr.dowell_factor(1.0, 1.0) < f15 < acr.dowell_factor(1.0, 2.0)
 
 
 # --------------------------------------------------------------------------- round wire
@@ -187,10 +188,10 @@ def test_equivalent_foil_example_ferreira():
     # Ferreira 1994 / Erickson & Maksimovic ch. 13 form: d = 0.5 mm, 100 kHz, 20 degC,
     # N_l = 10, b = 6 mm -> Delta 1.82218, F_R 1.69618 (m=1), 8.48543 (m=3); rel 1e-5.
     delta_skin = w.skin_depth(100e3, w.copper_resistivity(20.0))
-    delta = w.equivalent_foil_delta(0.5e-3, 10, 6e-3, delta_skin)
+    delta = acr.equivalent_foil_delta(0.5e-3, 10, 6e-3, delta_skin)
     assert delta == pytest.approx(1.82218, rel=1e-5)
-    np.testing.assert_allclose(w.dowell_factor(delta, [1.0, 3.0]), [1.69618, 8.48543], rtol=1e-5)
-    deltas = w.equivalent_foil_delta(
+    np.testing.assert_allclose(acr.dowell_factor(delta, [1.0, 3.0]), [1.69618, 8.48543], rtol=1e-5)
+    deltas = acr.equivalent_foil_delta(
         np.array([0.5e-3, 0.5e-3]), np.array([10, 5]), 6e-3, delta_skin
     )
     # Halving the wires per layer halves the porosity: Delta scales with sqrt(porosity).
@@ -199,30 +200,31 @@ def test_equivalent_foil_example_ferreira():
 
 def test_equivalent_foil_warns_when_wires_overlap():
     with pytest.warns(ValidityRangeWarning):
-        w.equivalent_foil_delta(1e-3, 10, 5e-3, 0.2e-3)
+        acr.equivalent_foil_delta(1e-3, 10, 5e-3, 0.2e-3)
 
 
 def test_round_wire_ac_factor_matches_example_and_harmonic_axis():
     # Same example through the frequency-level function (rel 1e-5).
-    assert w.round_wire_ac_factor(100e3, RHO_20C, 0.5e-3, 10, 6e-3, 3) == pytest.approx(
+    assert acr.round_wire_ac_factor(100e3, RHO_20C, 0.5e-3, 10, 6e-3, 3) == pytest.approx(
         8.48543, rel=1e-5
     )
     harmonics = 100e3 * np.arange(1, 6)
     diameters = np.array([0.3e-3, 0.5e-3, 0.8e-3])
-    factors = w.round_wire_ac_factor(harmonics, RHO_20C, diameters, 5, 6e-3, 3, harmonic_axis=True)
+    factors = acr.round_wire_ac_factor(harmonics, RHO_20C, diameters, 5, 6e-3, 3,
+                                       harmonic_axis=True)
     assert factors.shape == (3, 5)
     for i, d in enumerate(diameters):
         for k, f in enumerate(harmonics):
             assert factors[i, k] == pytest.approx(
-                w.round_wire_ac_factor(f, RHO_20C, d, 5, 6e-3, 3), rel=1e-14
+                acr.round_wire_ac_factor(f, RHO_20C, d, 5, 6e-3, 3), rel=1e-14
             )
 
 
 def test_foil_ac_factor_one_skin_depth_thick():
     # t = delta gives Delta = 1: Dowell table m = 2 -> 1.406009 (rel 1e-6).
     thickness = w.skin_depth(200e3, RHO_20C)
-    assert w.foil_ac_factor(200e3, RHO_20C, thickness, 2.0) == pytest.approx(1.406009, rel=1e-6)
-    factors = w.foil_ac_factor(
+    assert acr.foil_ac_factor(200e3, RHO_20C, thickness, 2.0) == pytest.approx(1.406009, rel=1e-6)
+    factors = acr.foil_ac_factor(
         np.array([[200e3, 400e3]]),
         RHO_20C,
         np.array([thickness, 0.5 * thickness]),
@@ -232,7 +234,7 @@ def test_foil_ac_factor_one_skin_depth_thick():
     assert factors.shape == (2, 2)
     assert factors[0, 0] == pytest.approx(1.406009, rel=1e-6)
     # Half the thickness at four times the frequency is Delta = 1 again.
-    assert w.foil_ac_factor(800e3, RHO_20C, 0.5 * thickness, 2.0) == pytest.approx(
+    assert acr.foil_ac_factor(800e3, RHO_20C, 0.5 * thickness, 2.0) == pytest.approx(
         1.406009, rel=1e-6
     )
 
@@ -244,8 +246,8 @@ def test_litz_factor_check_value():
     # Sullivan, IEEE TPEL 14(2) 1999: n=50, N=10, d_c=0.1 mm, b_c=10 mm, 100 kHz, 20 degC
     # -> 1.067377 (check_values.md, rel 1e-6).
     delta = w.skin_depth(100e3, w.copper_resistivity(20.0))
-    assert w.litz_factor(50, 10, 0.1e-3, 10e-3, delta) == pytest.approx(1.067377, rel=1e-6)
-    factors = w.litz_factor(np.array([50, 100]), 10, 0.1e-3, 10e-3, delta)
+    assert acr.litz_factor(50, 10, 0.1e-3, 10e-3, delta) == pytest.approx(1.067377, rel=1e-6)
+    factors = acr.litz_factor(np.array([50, 100]), 10, 0.1e-3, 10e-3, delta)
     # The excess scales with the square of the strand count.
     assert (factors[1] - 1.0) == pytest.approx(4.0 * (factors[0] - 1.0), rel=1e-12)
 
@@ -254,12 +256,12 @@ def test_litz_factor_papers_own_example():
     # Sullivan 1999, worked example: 14 turns, 130 strands AWG 48, 375 kHz, breadth
     # 6.3 mm -> about 1.03 (abs 0.005).
     delta = w.skin_depth(375e3, w.copper_resistivity(20.0))
-    factor = w.litz_factor(130, 14, w.awg_diameter_m(48), 6.3e-3, delta)
+    factor = acr.litz_factor(130, 14, w.awg_diameter_m(48), 6.3e-3, delta)
     assert factor == pytest.approx(1.03, abs=0.005)
 
 
 def test_litz_ac_factor_from_frequency():
-    factors = w.litz_ac_factor(
+    factors = acr.litz_ac_factor(
         np.array([100e3, 200e3]), RHO_20C, 50, 10, 0.1e-3, np.array([[10e-3], [20e-3]])
     )
     assert factors.shape == (2, 2)
@@ -267,7 +269,7 @@ def test_litz_ac_factor_from_frequency():
     # Excess grows as 1/delta^4 = f^2 and falls as 1/b^2 (Sullivan's equation).
     assert factors[0, 1] - 1.0 == pytest.approx(4.0 * (factors[0, 0] - 1.0), rel=1e-12)
     assert factors[1, 0] - 1.0 == pytest.approx((factors[0, 0] - 1.0) / 4.0, rel=1e-12)
-    per_harmonic = w.litz_ac_factor(
+    per_harmonic = acr.litz_ac_factor(
         np.array([100e3, 200e3]),
         RHO_20C,
         np.array([50, 25]),
@@ -281,13 +283,13 @@ def test_litz_ac_factor_from_frequency():
 
 def test_litz_ac_factor_scalar():
     # Same Sullivan check value through the frequency-level function (rel 1e-6).
-    factor = w.litz_ac_factor(100e3, w.copper_resistivity(20.0), 50, 10, 0.1e-3, 10e-3)
+    factor = acr.litz_ac_factor(100e3, w.copper_resistivity(20.0), 50, 10, 0.1e-3, 10e-3)
     assert factor == pytest.approx(1.067377, rel=1e-6)
 
 
 def test_litz_warns_when_strand_thicker_than_skin_depth():
     with pytest.warns(ValidityRangeWarning):
-        w.litz_factor(10, 10, 0.5e-3, 10e-3, 0.2e-3)
+        acr.litz_factor(10, 10, 0.5e-3, 10e-3, 0.2e-3)
 
 
 # --------------------------------------------------------------------------- layout
@@ -437,5 +439,5 @@ def test_litz_outside_range_when_strands_exceed_the_skin_depth():
     delta = sqrt(rho / (pi f mu0)) (standard skin-depth formula)."""
     rho, f = 1.72e-8, 100e3
     delta = math.sqrt(rho / (math.pi * f * 4e-7 * math.pi))
-    flags = w.litz_outside_range(np.array([0.9, 1.1]) * delta, f, rho)
+    flags = acr.litz_outside_range(np.array([0.9, 1.1]) * delta, f, rho)
     assert flags.tolist() == [False, True]

@@ -13,7 +13,7 @@ import pytest
 from scipy.integrate import dblquad
 
 from optimag.constants import MU0
-from optimag.physics import winding as w
+from optimag.physics import gap_field
 
 fem = pytest.importorskip("optimag.fem")
 
@@ -31,7 +31,7 @@ def _energies(gap_m: float, wall_m: float):
     x0, x1 = coil.x0 - section.leg_half_width_m, coil.x1 - section.leg_half_width_m
 
     def closed_form(y, x):
-        h_x, h_y = w.gap_fringing_field(x, y, HEIGHT, share)
+        h_x, h_y = gap_field.gap_fringing_field(x, y, HEIGHT, share)
         h_y = h_y - (x - x0) / (x1 - x0) / HEIGHT  # the winding's own 1-D field
         return MU0**2 * (h_x**2 + h_y**2)
 
