@@ -258,17 +258,31 @@ def _summarise(result, run_dir: Path) -> int:
     )
     if counts.get("not_reached"):
         out.print(f"{counts['not_reached']:,} candidates of the space were not reached.")
+    diagnosis = result.record.get("diagnosis") or {}
+    alone = diagnosis.get("fails_alone") or {}
     elim = Table(title="Eliminated by constraint (first failed, in check order)")
     elim.add_column("constraint")
     elim.add_column("candidates", justify="right")
     elim.add_column("share", justify="right")
+    if alone:
+        elim.add_column("fail it alone (relaxing only it admits)", justify="right")
     for name, count in counts["eliminated"].items():
-        elim.add_row(name, f"{count:,}", f"{count / max(counts['total'], 1):.1%}")
+        cells = [name, f"{count:,}", f"{count / max(counts['total'], 1):.1%}"]
+        if alone:
+            cells.append(f"{alone[name]:,}" if name in alone else "")
+        elim.add_row(*cells)
     out.print(elim)
     if report_state != "written":
         out.print(f"report.html: {report_state}")
     if not result.feasible:
-        out.print("[bold red]No candidate meets every constraint.[/bold red] Nearest misses:")
+        out.print("[bold red]No candidate meets every constraint.[/bold red]")
+        if alone:
+            admits = [f"{name} would admit {n:,}" for name, n in
+                      sorted(alone.items(), key=lambda item: -item[1]) if n]
+            out.print("Relaxing one limit alone: " + ("; ".join(admits) if admits else
+                      "no single limit rules out any candidate on its own; at least two "
+                      "must be relaxed") + f" (over {diagnosis.get('scope', 'the run')}).")
+        out.print("Nearest misses (one per core, by worst violation relative to its limit):")
         misses = Table()
         for col in ("core", "material", "turns", "wire", "parallel", "worst constraint",
                     "violation"):

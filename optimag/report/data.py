@@ -655,20 +655,24 @@ def margin_table(record: dict[str, Any]) -> pd.DataFrame:
 
 
 def elimination_table(run: RunData) -> pd.DataFrame:
-    """Candidates removed per constraint, largest first, with their share of all."""
+    """Candidates removed per constraint, largest first, with their share of all; in an
+    infeasible run also ``alone``: the candidates failing only that constraint (-1 where
+    not counted)."""
     counts = run.meta["counts"]
     total = int(counts.get("total", 0))
     eliminated = counts.get("eliminated") or {}
+    alone = (run.meta.get("diagnosis") or {}).get("fails_alone") or {}
     rows = [
         {
             "constraint": str(name),
             "meaning": CONSTRAINT_MEANING.get(str(name), ""),
             "removed": int(removed),
             "share": (int(removed) / total) if total > 0 else 0.0,
+            "alone": int(alone.get(name, -1)),
         }
         for name, removed in eliminated.items()
     ]
-    table = pd.DataFrame(rows, columns=["constraint", "meaning", "removed", "share"])
+    table = pd.DataFrame(rows, columns=["constraint", "meaning", "removed", "share", "alone"])
     return table.sort_values(["removed", "constraint"], ascending=[False, True]).reset_index(
         drop=True
     )

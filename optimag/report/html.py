@@ -172,8 +172,10 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
         misses = data.near_miss_table(run)
         body = (
             '<div class="alert"><b>No design met every limit.</b> The candidates that came '
-            "closest are listed with the limit they broke worst; relax that limit or widen "
-            "the catalogue.</div>"
+            "closest, one per core, are listed with the limit they broke worst (each limit's "
+            "excess relative to the limit itself, so different limits compare); relax that "
+            "limit or widen the catalogue. What each limit rules out on its own is under "
+            '<a href="#ruled-out">What was ruled out</a>.</div>'
         )
         if not misses.empty:
             body += _table(
@@ -530,24 +532,35 @@ def _build_sheets(run: data.RunData, slots: _FigureSlots) -> str:
 
 def _ruled_out(run: data.RunData) -> str:
     table = data.elimination_table(run)
+    alone = bool((table["alone"] >= 0).any()) if not table.empty else False
     rows = []
     for r in table.itertuples(index=False):
         bar = f'<span class="bar" style="width:{100 * r.share:.1f}%"></span>'
+        only = f'<td class="num">{r.alone:,}</td>' if alone and r.alone >= 0 else (
+            "<td></td>" if alone else "")
         rows.append(
             "<tr>"
             f"<td><code>{escape(r.constraint)}</code></td><td>{escape(r.meaning)}</td>"
             f'<td class="num">{r.removed:,}</td>'
-            f'<td class="num share">{100 * r.share:.1f} %{bar}</td>'
+            f'<td class="num share">{100 * r.share:.1f} %{bar}</td>{only}'
             "</tr>"
         )
+    only_head = "<th>Fail it alone</th>" if alone else ""
     body = (
         '<div class="card"><div class="scroll"><table class="data"><thead><tr>'
-        "<th>Limit</th><th>Meaning</th><th>Removed</th><th>Share of all</th>"
+        f"<th>Limit</th><th>Meaning</th><th>Removed</th><th>Share of all</th>{only_head}"
         f"</tr></thead><tbody>{''.join(rows)}</tbody></table></div></div>"
     )
     if table.empty:
         body = "<p>The run recorded no eliminations.</p>"
     lede = "How many candidates each limit removed, as a share of all candidates evaluated."
+    if alone:
+        diagnosis = run.meta.get("diagnosis") or {}
+        lede += (
+            " Removed counts each candidate under the first limit it fails, in check order. "
+            "Fail it alone counts the candidates that break that limit and no other: relaxing "
+            f"only that limit would admit them (over {diagnosis.get('scope', 'the run')})."
+        )
     return _section(4, "ruled-out", "What was ruled out", lede, body)
 
 

@@ -56,7 +56,7 @@ from optuna.trial import TrialState
 from optimag import __version__, model, tolerance
 from optimag.errors import InputError, Problem, StorageError
 from optimag.search import custom_core as geometry
-from optimag.search.exhaustive import CANDIDATE_FIELDS, NEAR_MISS_COUNT, ExhaustiveOutcome
+from optimag.search.exhaustive import CANDIDATE_FIELDS, ExhaustiveOutcome
 from optimag.search.fingerprint import (
     fingerprint_changes,
     fingerprint_content,
@@ -1187,6 +1187,7 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
                  settings: dict) -> ExploreResult:
     """The `ExploreResult` of the study's COMPLETE trials (the exhaustive search's
     assembly, fed with the optuna front)."""
+    from optimag.search.diagnosis import Diagnosis, diagnose_rows
     from optimag.search.run import _assemble
 
     crop = harvest(ostudy, problem)
@@ -1206,9 +1207,15 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
         custom_front = _front(crop.objectives, feasible_rows[table.is_custom[feasible_rows]])
         catalogue_front = _front(crop.objectives, feasible_rows[~table.is_custom[feasible_rows]])
     near = np.empty(0, dtype=np.int64)
+    diagnosis = None
     if feasible_rows.size == 0 and len(table):
-        worst = crop.violations.max(axis=1)
-        near = np.argsort(worst, kind="stable")[:NEAR_MISS_COUNT]
+        # Each custom trial is a core of its own.
+        core_key = np.where(table.is_custom, len(problem.space.cores.ids) + np.arange(len(table)),
+                            table.catalogue_core)
+        alone, near = diagnose_rows(core_key, crop.violations)
+        diagnosis = Diagnosis(fails_alone=alone, near_misses=None,
+                              near_miss_violation=np.empty(0), scope="evaluated trials",
+                              candidates=len(table))
 
     needed = np.unique(np.concatenate([combined, custom_front, catalogue_front, near]))
     sub = table.take(needed)
@@ -1236,7 +1243,7 @@ def build_result(ostudy: optuna.Study, problem: OptunaProblem, top: int, counts:
         interrupted=counts.interrupted, stage_sizes={},
     )
     result = _assemble(problem.study, problem.catalog, space, problem.objectives, outcome, top,
-                       catalogue_space=problem.space)
+                       catalogue_space=problem.space, diagnosis=diagnosis)
 
     record = result.record
     record["strategy"] = "optuna"

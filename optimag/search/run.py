@@ -143,12 +143,35 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     robust = {"robust": study.tolerance} if study.search.robust else {}
     outcome = explore_exhaustive(space, objectives, progress=progress, search_plan=search_plan,
                                  **robust)
-    result = _assemble(study, catalog, space, objectives, outcome, top)
+    diagnosis = None
+    if outcome.feasible == 0 and not outcome.interrupted and outcome.total:
+        diagnosis = _diagnose(space, search_plan, outcome, announce)
+    result = _assemble(study, catalog, space, objectives, outcome, top, diagnosis=diagnosis)
     if getattr(study, "custom_core", None) is not None:
         result.record.setdefault("notes", []).append(
             "[custom_core] is searched by the optuna strategy only; this exhaustive run "
             "covers the catalogue's cores")
     return result
+
+
+def _diagnose(space, search_plan, outcome, announce):
+    """The diagnosis of an infeasible exhaustive run (its nearest misses replace the
+    search's); None when interrupted."""
+    from optimag.search.diagnosis import diagnose_exhaustive
+
+    if announce is not None:
+        announce("no candidate meets every constraint; counting what each constraint rules "
+                 "out on its own")
+    start = time.perf_counter()
+    try:
+        diagnosis = diagnose_exhaustive(space, search_plan)
+    except KeyboardInterrupt:
+        return None
+    diagnosis.wall_time_s = time.perf_counter() - start
+    if diagnosis.near_misses is not None:
+        outcome.near_misses = diagnosis.near_misses
+        outcome.near_miss_violation = diagnosis.near_miss_violation
+    return diagnosis
 
 
 #: Candidates per second assumed for the time estimate in a refusal (the slower example
@@ -184,9 +207,11 @@ def refuse_oversized(study, search_plan: SearchPlan) -> None:
 
 
 def _assemble(study, catalog, space, objectives, outcome, top,
-              catalogue_space=None) -> ExploreResult:
+              catalogue_space=None, diagnosis=None) -> ExploreResult:
     """Front, short-list, records and run record of a finished search. ``catalogue_space``
-    (default ``space``) holds the catalogue's cores only, for the hand procedure."""
+    (default ``space``) holds the catalogue's cores only, for the hand procedure;
+    ``diagnosis`` (`optimag.search.diagnosis.Diagnosis`, infeasible runs) goes into the
+    record."""
     front = outcome.front
     front_candidates = front_metrics = None
     tolerance_record: dict = {}
@@ -276,6 +301,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         ],
         "currency": study.cost.currency,
         "near_misses": near_records,
+        "diagnosis": diagnosis.record() if diagnosis is not None else None,
         "hand_sizing": hand_sizing(
             catalogue_space or space, objectives,
             front.objectives[order] if len(front) else None, front_ids,

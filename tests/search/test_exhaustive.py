@@ -63,6 +63,7 @@ def test_shortlist_is_reproducible_and_undominated(tiny_study_path):
     first = explore(tiny_study_path, top=8)
     second = explore(tiny_study_path, top=8)
     assert len(first.pareto) > 0
+    assert first.record["diagnosis"] is None  # only an infeasible run is diagnosed
     assert first.pareto.drop(columns=[]).equals(second.pareto)
     objectives = ["volume_cm3", "weighted_loss_W", "cost"]
     front = first.pareto[objectives].to_numpy()
