@@ -34,11 +34,13 @@ from optimag.errors import ValidityRangeWarning
 from optimag.physics import (
     ac_resistance,
     coreloss,
+    fringing,
     gap_field,
     geometry,
     heat_balance,
     heat_paths,
     magnetic,
+    saturation,
     sizing,
     thermal,
     winding,
@@ -542,7 +544,7 @@ def gap_allowed(space: DesignSpace, core: np.ndarray, material: np.ndarray) -> n
 
 def gap_geometry(
     space: DesignSpace, core: np.ndarray, stack: np.ndarray, gap_option: np.ndarray
-) -> magnetic.GapGeometry:
+) -> fringing.GapGeometry:
     """What is gapped, for the gap models: the gapped leg's face (a pot core's round post
     of diameter `leg_width`, an E core's rectangular centre leg with the stack's depth), the
     window, the yoke, the outer legs' faces and whether a spacer gaps every leg."""
@@ -552,7 +554,7 @@ def gap_geometry(
     width = c.leg_width_m[core]
     depth = np.where(round_leg, width, c.leg_depth_m[core] * stack_f)
     face = np.where(round_leg, 0.25 * np.pi * width * width, width * depth)
-    return magnetic.GapGeometry(
+    return fringing.GapGeometry(
         ae_m2=face,
         winding_length_m=c.breadth_m[core],
         leg_width_m=width,
@@ -569,7 +571,7 @@ def gap_geometry(
 
 def window_permeance(
     space: DesignSpace, core: np.ndarray, stack: np.ndarray, gap_option: np.ndarray,
-    gap: np.ndarray, r_core: np.ndarray, geometry: magnetic.GapGeometry,
+    gap: np.ndarray, r_core: np.ndarray, geometry: fringing.GapGeometry,
 ) -> np.ndarray:
     """Permeance [H] of the winding window's own field (added as N² P_w to the inductance;
     0 with the "ideal" gap model):
@@ -586,8 +588,8 @@ def window_permeance(
     )
     centre_only = dataclasses.replace(geometry, spacer=np.zeros_like(spacer))
     model_name = space.requirements.fringing
-    r_centre = magnetic.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=centre_only)
-    r_all = magnetic.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=geometry)
+    r_centre = fringing.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=centre_only)
+    r_all = fringing.gap_reluctance(gap, 0, 0, 0, 0, model_name, geometry=geometry)
     share = (r_centre + 0.5 * r_core) / (r_core + r_all)
     height = c.breadth_m[core] + np.where(spacer, gap, 0.0)
     # "ideal" keeps every line of flux in the core and the gap's face: no window field.
@@ -604,10 +606,10 @@ def _large_signal(space, material, turns, le, ae, bsat, r_gap, current, p_window
     mu_i = m.mu_i[material]
     a, b, c = m.rolloff_a[material], m.rolloff_b[material], m.rolloff_c[material]
     field = turns * current / le
-    powder_l = magnetic.powder_inductance(turns, current, le, ae, mu_i, a, b, c)
-    powder_b = magnetic.powder_flux_density(field, mu_i, a, b, c)
+    powder_l = saturation.powder_inductance(turns, current, le, ae, mu_i, a, b, c)
+    powder_b = saturation.powder_flux_density(field, mu_i, a, b, c)
     # The soft law needs mu_i > 1 (a ferrite of mu_i = 1 would be air: keep it finite).
-    soft = magnetic.soft_saturation_operating_point(
+    soft = saturation.soft_saturation_operating_point(
         turns, current, le, ae, np.where(powder, 2.0, np.maximum(mu_i, 1.0 + 1e-9)), bsat,
         r_gap,
     )
@@ -637,13 +639,13 @@ def inductance_versus_current(
     geometry = gap_geometry(space, core, stack, gap_option)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityRangeWarning)
-        r_gap = magnetic.gap_reluctance(
+        r_gap = fringing.gap_reluctance(
             gap_m, ae, c.breadth_m[core], geometry.leg_width_m, geometry.leg_depth_m,
             model=req.fringing, geometry=geometry,
         )
         r_core = magnetic.core_reluctance(le, ae, m.mu_i[material])
         p_window = window_permeance(space, core, stack, gap_option, gap_m, r_core, geometry)
-    bsat_hot = magnetic.bsat_at_temperature(
+    bsat_hot = saturation.bsat_at_temperature(
         req.max_temperature_C, m.bsat_25C_T[material], m.bsat_100C_T[material]
     )
     current = np.asarray(current_A, dtype=float)
@@ -704,12 +706,12 @@ def magnetic_stage(
     unreachable = np.isnan(gap)
     gap = np.where(unreachable, 0.0, gap)
 
-    r_gap = magnetic.gap_reluctance(
+    r_gap = fringing.gap_reluctance(
         gap, ae, breadth, geometry.leg_width_m, geometry.leg_depth_m, model=req.fringing,
         geometry=geometry,
     )
     # Powder: mu_i is the initial permeability; its roll-off starts from 1/a at H = 0.
-    powder_l0 = magnetic.powder_inductance(
+    powder_l0 = saturation.powder_inductance(
         n_turns, 0.0, le, ae, mu_i, m.rolloff_a[material], m.rolloff_b[material],
         m.rolloff_c[material],
     )
@@ -823,7 +825,7 @@ def magnetic_stage(
         range_violation = np.full(len(n_turns), -1.0)
     else:
         range_violation = np.where(outside_fit, fit_excess, -1.0)
-    gap_model = magnetic.GAP_RELUCTANCE_MODELS[req.fringing]
+    gap_model = fringing.GAP_RELUCTANCE_MODELS[req.fringing]
     outside_gap = (gap > 0) & gap_model.outside_range(gap, geometry)
     return {
         "gap_m": gap,
@@ -1495,7 +1497,7 @@ def saturation_limits(space: DesignSpace, material: np.ndarray) -> tuple[np.ndar
     margin times that Bsat), which the saturation constraint checks the peak flux on Amin
     against."""
     m, req = space.materials, space.requirements
-    bsat = magnetic.bsat_at_temperature(
+    bsat = saturation.bsat_at_temperature(
         req.max_temperature_C, m.bsat_25C_T[material], m.bsat_100C_T[material]
     )
     return bsat, req.flux_margin * bsat

@@ -7,6 +7,7 @@ import pytest
 
 from optimag import model
 from optimag.catalog import load_catalog
+from optimag.physics import fringing, saturation
 from optimag.search.exhaustive import magnetic_grid
 from optimag.study import load_study
 
@@ -62,7 +63,7 @@ def test_stored_energy_identity(tiny_space):
     geometry = model.gap_geometry(tiny_space, cands.core[i], cands.stack[i], cands.gap_option[i])
     r_total = magnetic.core_reluctance(
         c.le_m[cands.core[i]], ae, tiny_space.materials.mu_i[cands.material[i]]
-    ) + magnetic.gap_reluctance(
+    ) + fringing.gap_reluctance(
         metrics["gap_m"][i], ae, c.breadth_m[cands.core[i]], geometry.leg_width_m,
         geometry.leg_depth_m, tiny_space.requirements.fringing, geometry=geometry,
     )
@@ -95,7 +96,6 @@ def test_ripple_follows_each_designs_own_inductance(tiny_space):
     """CCM buck ripple dI = (Vi - Vo) D / (L f), D = Vo/Vi (Erickson & Maksimović ch. 2),
     with L the design's incremental inductance at its DC current (powder roll-off), for the
     designs that stay in CCM by their own inductance."""
-    from optimag.physics import magnetic
 
     cands = _random_candidates(tiny_space, 3000, seed=4)
     metrics = model.evaluate(tiny_space, cands)
@@ -107,7 +107,7 @@ def test_ripple_follows_each_designs_own_inductance(tiny_space):
         assert not op.dcm[k]
         i = powder[~metrics["dcm"][powder, k]]
         assert i.size
-        l_dc = magnetic.powder_inductance(
+        l_dc = saturation.powder_inductance(
             cands.turns[i], op.dc_A[k], c.le_m[cands.core[i]],
             c.ae_m2[cands.core[i]] * cands.stack[i], m.mu_i[cands.material[i]],
             m.rolloff_a[cands.material[i]], m.rolloff_b[cands.material[i]],
@@ -119,7 +119,7 @@ def test_ripple_follows_each_designs_own_inductance(tiny_space):
 
 def test_ferrite_rolls_off_on_its_soft_saturation_curve(tiny_space):
     """Ferrite ripple and inductance at peak follow the Fröhlich-Kennelly circuit solution
-    (physics.magnetic.soft_saturation_operating_point, tested against a root finder) with
+    (physics.saturation.soft_saturation_operating_point, tested against a root finder) with
     the Bsat of the hottest allowed temperature; the buck ripple is (Vi - Vo) D / (L f)."""
     from optimag.physics import magnetic
 
@@ -132,7 +132,7 @@ def test_ferrite_rolls_off_on_its_soft_saturation_curve(tiny_space):
     ae = c.ae_m2[cands.core[i]] * cands.stack[i]
     geometry = model.gap_geometry(tiny_space, cands.core[i], cands.stack[i],
                                   cands.gap_option[i])
-    r_gap = magnetic.gap_reluctance(metrics["gap_m"][i], ae, c.breadth_m[cands.core[i]],
+    r_gap = fringing.gap_reluctance(metrics["gap_m"][i], ae, c.breadth_m[cands.core[i]],
                                     geometry.leg_width_m, geometry.leg_depth_m,
                                     model=req.fringing, geometry=geometry)
     le, mu = c.le_m[cands.core[i]], m.mu_i[cands.material[i]]
@@ -140,18 +140,18 @@ def test_ferrite_rolls_off_on_its_soft_saturation_curve(tiny_space):
     window = cands.turns[i] ** 2 * model.window_permeance(
         tiny_space, cands.core[i], cands.stack[i], cands.gap_option[i], metrics["gap_m"][i],
         magnetic.core_reluctance(le, ae, mu), geometry)
-    bsat = magnetic.bsat_at_temperature(req.max_temperature_C, m.bsat_25C_T[cands.material[i]],
+    bsat = saturation.bsat_at_temperature(req.max_temperature_C, m.bsat_25C_T[cands.material[i]],
                                         m.bsat_100C_T[cands.material[i]])
     args = (le, ae, mu, bsat, r_gap)
     for k, (vi, vo) in enumerate([(24.0, 5.0), (12.0, 5.0)]):
         ccm = ~metrics["dcm"][i, k]
         assert ccm.any()
-        l_dc = magnetic.soft_saturation_operating_point(
+        l_dc = saturation.soft_saturation_operating_point(
             cands.turns[i], op.dc_A[k], *args).inductance_H + window
         expected = (vi - vo) * (vo / vi) / (l_dc * op.frequency_Hz)
         np.testing.assert_allclose(metrics["ripple_A"][i, k][ccm], expected[ccm], rtol=1e-9)
     worst_peak = metrics["peak_current_A"][i].max(axis=1)
-    at_peak = magnetic.soft_saturation_operating_point(cands.turns[i], worst_peak, *args)
+    at_peak = saturation.soft_saturation_operating_point(cands.turns[i], worst_peak, *args)
     np.testing.assert_allclose(metrics["inductance_at_peak_H"][i],
                                at_peak.inductance_H + window, rtol=1e-9)
     # Soft saturation: every gapped ferrite design keeps less than L0 at its peak current.

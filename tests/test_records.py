@@ -19,7 +19,7 @@ import pandas as pd
 import pytest
 
 from optimag import records
-from optimag.physics import magnetic
+from optimag.physics import magnetic, saturation
 from optimag.runfolder import write_run
 from optimag.search.run import explore
 
@@ -94,7 +94,7 @@ def test_each_point_recomputes_alone_from_its_inputs(run):
                 bsat = rec["margins"]["bsat_at_limit_temperature_T"]
 
                 def flux_at(current, n=n, le=le, ae=ae, inputs=inputs, bsat=bsat, r=r_gap):
-                    return magnetic.soft_saturation_operating_point(
+                    return saturation.soft_saturation_operating_point(
                         n, current, le, ae, inputs["mu_r"], bsat, r).flux_density_T
 
                 flux = flux_at(point["peak_current_A"]) * inputs["Ae_mm2"] / inputs["Amin_mm2"]

@@ -11,7 +11,7 @@ import numpy as np
 
 from optimag.constants import MU0
 from optimag.errors import ValidityRangeWarning
-from optimag.physics import magnetic
+from optimag.physics import fringing, magnetic
 
 TABLE = Path(__file__).resolve().parents[1] / "data" / "fem_gap_inductance.csv"
 
@@ -39,7 +39,7 @@ def model_inductance(
     ae = number["Ae_mm2"] * 1e-6
     if face_from_ae:
         face = ae
-    geometry = magnetic.GapGeometry(
+    geometry = fringing.GapGeometry(
         ae_m2=face,
         winding_length_m=number["window_height_mm"] * 1e-3,
         leg_width_m=width,
@@ -55,7 +55,7 @@ def model_inductance(
     gap = number["gap_mm"] * 1e-3
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityRangeWarning)
-        r_gap = magnetic.gap_reluctance(gap, face, geometry.winding_length_m, width, depth,
+        r_gap = fringing.gap_reluctance(gap, face, geometry.winding_length_m, width, depth,
                                         model, geometry=geometry)
     r_core = number["le_mm"] * 1e-3 / (MU0 * number["mu_r"] * ae)
     if not window:
@@ -76,11 +76,11 @@ def window_dimensions(geometry, spacer: bool, gap: float) -> tuple[float, float,
 
 
 def centre_share(geometry, gap: float, model: str, r_core: float) -> float:
-    centre_only = magnetic.GapGeometry(**{**vars(geometry), "spacer": False})
+    centre_only = fringing.GapGeometry(**{**vars(geometry), "spacer": False})
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityRangeWarning)
-        r_centre = float(magnetic.gap_reluctance(gap, 0, 0, 0, 0, model, geometry=centre_only))
-        r_all = float(magnetic.gap_reluctance(gap, 0, 0, 0, 0, model, geometry=geometry))
+        r_centre = float(fringing.gap_reluctance(gap, 0, 0, 0, 0, model, geometry=centre_only))
+        r_all = float(fringing.gap_reluctance(gap, 0, 0, 0, 0, model, geometry=geometry))
     total = r_core + r_all
     return (r_centre + 0.5 * r_core) / total
 

@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from optimag.physics import magnetic
+from optimag.physics import fringing
 from optimag.study.file import ModelChoices
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
@@ -41,7 +41,7 @@ def test_default_model_within_its_band_of_the_field_solutions(upper, tolerance) 
 
 def test_leg_edge_model_beats_mclyman_and_muhlethaler() -> None:
     # Why it is the default: smaller largest and rms error than either published model.
-    assert ModelChoices().fringing == magnetic.DEFAULT_GAP_MODEL == "leg_edges"
+    assert ModelChoices().fringing == fringing.DEFAULT_GAP_MODEL == "leg_edges"
     own = relative_errors("leg_edges", window=True)
     for other in ("mclyman", "muhlethaler"):
         theirs = relative_errors(other, window=True)

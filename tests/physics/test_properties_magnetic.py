@@ -6,6 +6,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from optimag.physics import fringing, saturation
 from optimag.physics import magnetic as mag
 
 finite = {"allow_nan": False, "allow_infinity": False}
@@ -27,15 +28,15 @@ def test_gap_reluctances_finite_and_below_ideal(ae, window_ratio, gap_share, leg
     window = window_ratio * side
     mcl_gap = gap_share * min(window, side)
     muh_gap = gap_share * min(window, width, depth)
-    factor = mag.fringing_factor_mclyman(mcl_gap, ae, window)
-    mcl = mag.gap_reluctance_mclyman(mcl_gap, ae, window)
-    muh = mag.gap_reluctance_muhlethaler(muh_gap, width, depth, window)
+    factor = fringing.fringing_factor_mclyman(mcl_gap, ae, window)
+    mcl = fringing.gap_reluctance_mclyman(mcl_gap, ae, window)
+    muh = fringing.gap_reluctance_muhlethaler(muh_gap, width, depth, window)
     for value in (factor, mcl, muh):
         assert np.isfinite(value)
     assert factor >= 1.0
     # Fringing widens the flux path, so neither model exceeds the ideal gap.
-    assert mcl <= mag.gap_reluctance_ideal(mcl_gap, ae) * (1 + 1e-12)
-    assert muh <= mag.gap_reluctance_ideal(muh_gap, ae) * (1 + 1e-12)
+    assert mcl <= fringing.gap_reluctance_ideal(mcl_gap, ae) * (1 + 1e-12)
+    assert muh <= fringing.gap_reluctance_ideal(muh_gap, ae) * (1 + 1e-12)
 
 
 @settings(max_examples=100, deadline=None)
@@ -46,29 +47,29 @@ def test_gap_reluctances_finite_and_below_ideal(ae, window_ratio, gap_share, leg
     mu_r=permeabilities,
     turns=turn_counts,
     gap_share=st.floats(1e-6, 0.95, **finite),
-    fringing=st.sampled_from(sorted(mag.GAP_RELUCTANCE_MODELS)),
+    model_name=st.sampled_from(sorted(fringing.GAP_RELUCTANCE_MODELS)),
 )
 def test_gap_for_inductance_inverts_every_model(
-    ae, window_ratio, path_ratio, mu_r, turns, gap_share, fringing
+    ae, window_ratio, path_ratio, mu_r, turns, gap_share, model_name
 ):
     side = np.sqrt(ae)
     window = window_ratio * side
     le = path_ratio * side
     gap = gap_share * min(window, side)
     geometry = None
-    if fringing == "leg_edges":
-        gap *= mag.LEG_EDGES_MAX_GAP_RATIO
-        geometry = mag.GapGeometry(ae, window, side, side, yoke_thickness_m=0.3 * side)
+    if model_name == "leg_edges":
+        gap *= fringing.LEG_EDGES_MAX_GAP_RATIO
+        geometry = fringing.GapGeometry(ae, window, side, side, yoke_thickness_m=0.3 * side)
     forward = {
-        "ideal": lambda g: mag.gap_reluctance_ideal(g, ae),
-        "mclyman": lambda g: mag.gap_reluctance_mclyman(g, ae, window),
-        "muhlethaler": lambda g: mag.gap_reluctance_muhlethaler(g, side, side, window),
-        "leg_edges": lambda g: mag.gap_reluctance_leg_edges(g, geometry),
-    }[fringing]
+        "ideal": lambda g: fringing.gap_reluctance_ideal(g, ae),
+        "mclyman": lambda g: fringing.gap_reluctance_mclyman(g, ae, window),
+        "muhlethaler": lambda g: fringing.gap_reluctance_muhlethaler(g, side, side, window),
+        "leg_edges": lambda g: fringing.gap_reluctance_leg_edges(g, geometry),
+    }[model_name]
     core = mag.core_reluctance(le, ae, mu_r)
     inductance = mag.inductance(turns, core + forward(gap))
     solved = mag.gap_for_inductance(
-        turns, inductance, le, ae, mu_r, window, fringing=fringing, geometry=geometry
+        turns, inductance, le, ae, mu_r, window, fringing=model_name, geometry=geometry
     )
     assert np.isfinite(solved)
     reached = core + forward(solved)
@@ -88,9 +89,9 @@ def test_gap_for_inductance_inverts_every_model(
 )
 def test_powder_functions_finite_and_bounded(turns, current, le, ae, mu_i, a, b, c):
     field = turns * current / le
-    fraction = mag.powder_permeability_fraction(field, a, b, c)
-    flux = mag.powder_flux_density(field, mu_i, a, b, c)
-    inductance = mag.powder_inductance(turns, current, le, ae, mu_i, a, b, c)
+    fraction = saturation.powder_permeability_fraction(field, a, b, c)
+    flux = saturation.powder_flux_density(field, mu_i, a, b, c)
+    inductance = saturation.powder_inductance(turns, current, le, ae, mu_i, a, b, c)
     for value in (fraction, flux, inductance):
         assert np.isfinite(value)
     assert 0.0 < fraction <= 1.0 / a
@@ -116,7 +117,7 @@ def test_linear_circuit_and_bsat_finite(turns, current, reluctance, ae, temperat
         mag.al_value(reluctance),
         mag.flux_density(turns, current, reluctance, ae),
         mag.core_reluctance(0.1, ae, 2000.0),
-        mag.bsat_at_temperature(temperature, b25, b25 * (1 - drop)),
+        saturation.bsat_at_temperature(temperature, b25, b25 * (1 - drop)),
     )
     for value in values:
         assert np.isfinite(value)
@@ -129,10 +130,10 @@ def test_linear_circuit_and_bsat_finite(turns, current, reluctance, ae, temperat
     window_ratio=window_to_side,
     gap_share=st.floats(1e-5, 1.0, **finite),
     round_leg=st.booleans(),
-    fringing=st.sampled_from(sorted(mag.GAP_RELUCTANCE_MODELS)),
+    model_name=st.sampled_from(sorted(fringing.GAP_RELUCTANCE_MODELS)),
 )
 def test_spacer_gap_solves_back_and_exceeds_the_centre_gap(
-    ae, window_ratio, gap_share, round_leg, fringing
+    ae, window_ratio, gap_share, round_leg, model_name
 ):
     # A spacer puts the outer legs' gaps in series with the centre gap: for every model its
     # reluctance is above the centre gap's alone, and the solver inverts it.
@@ -144,17 +145,17 @@ def test_spacer_gap_solves_back_and_exceeds_the_centre_gap(
         "outer_area_m2": 0.9 * ae, "outer_legs": 1.0 if round_leg else 2.0,
         "yoke_thickness_m": 0.3 * side,
     }
-    centre = mag.GapGeometry(ae, window, width, width, spacer=False, **common)
-    spacer = mag.GapGeometry(ae, window, width, width, spacer=True, **common)
+    centre = fringing.GapGeometry(ae, window, width, width, spacer=False, **common)
+    spacer = fringing.GapGeometry(ae, window, width, width, spacer=True, **common)
     gap = gap_share * 0.45 * min(window, side)
-    one = mag.gap_reluctance(gap, ae, window, width, width, fringing, geometry=centre)
-    both = mag.gap_reluctance(gap, ae, window, width, width, fringing, geometry=spacer)
+    one = fringing.gap_reluctance(gap, ae, window, width, width, model_name, geometry=centre)
+    both = fringing.gap_reluctance(gap, ae, window, width, width, model_name, geometry=spacer)
     assert np.isfinite(both) and both > one > 0.0
     target = 1.0 / both
     le, mu_r = 5.0 * side, 2000.0
     core = mag.core_reluctance(le, ae, mu_r)
     solved = mag.gap_for_inductance(
-        1, 1.0 / (core + both), le, ae, mu_r, window, fringing=fringing, geometry=spacer
+        1, 1.0 / (core + both), le, ae, mu_r, window, fringing=model_name, geometry=spacer
     )
     assert solved == pytest.approx(gap, rel=1e-7)
     assert target > 0.0
