@@ -1086,18 +1086,26 @@ def _gap_loss_coefficient(space, wire, kind, core, layout, n_turns, n_par, harmo
     # holds what is left.
     geometry_sum = np.zeros(len(wire))
     before = np.zeros(len(wire))
+    # Layer by layer, only the windings that have that layer (the others add nothing).
+    deepest_first = np.argsort(-layers, kind="stable")
+    depth = layers[deepest_first]
     for layer in range(int(layers.max(initial=0))):
-        in_layer = np.clip(conductors - before, 0.0, per_layer) * (layer < layers)
-        distance = wall + (layer + 0.5) * pitch
-        fraction = 1.0 - (before + 0.5 * in_layer) / conductors
+        rows = deepest_first[: int(np.searchsorted(-depth, -layer, side="left"))]
+        in_layer = np.clip(conductors[rows] - before[rows], 0.0, per_layer[rows])
+        distance = wall[rows] + (layer + 0.5) * pitch[rows]
+        fraction = 1.0 - (before[rows] + 0.5 * in_layer) / conductors[rows]
         with np.errstate(divide="ignore", invalid="ignore"):
-            excess = gap_field.gap_fringing_excess(distance, in_layer * pitch, height, fraction)
-        geometry_sum += np.where(in_layer > 0, in_layer * excess, 0.0)
-        before += in_layer
+            excess = gap_field.gap_fringing_excess(
+                distance, in_layer * pitch[rows], height[rows], fraction
+            )
+        geometry_sum[rows] += np.where(in_layer > 0, in_layer * excess, 0.0)
+        before[rows] += in_layer
     geometry = geometry_sum * strands * layout["mlt_m"] * n_turns**2 / height**2
+    # The conductor's loss per squared field depends on the wire alone: once per wire.
+    _, first, inverse = np.unique(wire, return_index=True, return_inverse=True)
     per_field = gap_field.round_conductor_transverse_loss(
-        harmonic_freq[None, :], rho, diameter[:, None]
-    )  # (n, H) W/m per (A/m)^2
+        harmonic_freq[None, :], rho, diameter[first][:, None]
+    )[inverse]  # (n, H) W/m per (A/m)^2
     # Toroids have no discrete gap; foil is not estimated (see above).
     skip = (kind == 2) | (c.family[core] == 2)
     return np.where(skip[:, None], 0.0, geometry[:, None] * per_field)
