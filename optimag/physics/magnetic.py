@@ -158,28 +158,40 @@ def _solve_gap(
     target: FloatArray, lower: FloatArray, model: GapModel, geometry: GapGeometry
 ) -> FloatArray:
     upper = MU0 * model.face_area_bound(geometry) * target
-    shape = np.broadcast(target, lower, upper, *vars(geometry).values()).shape
-    lower = np.broadcast_to(lower, shape).copy()
-    upper = np.broadcast_to(upper, shape).copy()
-    target = np.broadcast_to(target, shape)
+    fields = {name: np.asarray(value) for name, value in vars(geometry).items()}
+    shape = np.broadcast(target, lower, upper, *fields.values()).shape
+
+    def flat(values) -> np.ndarray:
+        return np.broadcast_to(values, shape).ravel()
+
+    lower, upper, target = flat(lower).copy(), flat(upper).copy(), flat(target)
+    fields = {name: flat(value) for name, value in fields.items()}
     gap = lower.copy()
     tolerance = _RELATIVE_TOLERANCE * target
+    # Only the elements not yet converged are iterated: a converged element stays put (a
+    # bisection step would throw it off again), and every step is element by element, so
+    # each element takes the same steps as if the whole array were iterated.
+    active = np.arange(gap.size)
     for _ in range(_NEWTON_MAX_STEPS):
-        reluctance, slope = model.reluctance_and_slope(gap, geometry)
-        residual = reluctance - target
-        converged = np.abs(residual) <= tolerance
-        if np.all(converged):
+        here = gap[active]
+        reluctance, slope = model.reluctance_and_slope(
+            here, GapGeometry(**{name: value[active] for name, value in fields.items()})
+        )
+        residual = reluctance - target[active]
+        moving = ~(np.abs(residual) <= tolerance[active])
+        if not np.any(moving):
             break
+        active, here = active[moving], here[moving]
+        residual, slope = residual[moving], slope[moving]
         too_long = residual > 0.0
-        np.copyto(upper, gap, where=too_long)
-        np.copyto(lower, gap, where=~too_long)
+        high = np.where(too_long, here, upper[active])
+        low = np.where(too_long, lower[active], here)
+        upper[active], lower[active] = high, low
         with np.errstate(divide="ignore", invalid="ignore"):
-            newton = gap - residual / slope
-        inside = (newton >= lower) & (newton <= upper)
-        # Converged elements stay put: a bisection step would throw them off again.
-        step = np.where(inside, newton, 0.5 * (lower + upper))
-        gap = np.where(converged, gap, step)
-    return gap
+            newton = here - residual / slope
+        inside = (newton >= low) & (newton <= high)
+        gap[active] = np.where(inside, newton, 0.5 * (low + high))
+    return gap.reshape(shape)
 
 
 def window_permeance(
