@@ -365,7 +365,7 @@ def _evaluate(args) -> int:
     catalog = load_catalog(study.catalog.path)
     design = GivenDesign(core=args.core, material=args.material, turns=args.turns,
                          wire=args.wire, parallel=args.parallel, stack=args.stack,
-                         gap_mm=args.gap_mm, name="given")
+                         gap_mm=args.gap_mm, name="given", gap_kind=args.gap_kind)
     result = evaluate_given(study, catalog, design, source="command line", prefix="--")
     record = result.record
     if args.json:
@@ -375,7 +375,8 @@ def _evaluate(args) -> int:
         gap = "solved for the inductance" if args.gap_mm is None else "given"
         out.print(
             f"{record['core']} x{record['stack']} {record['material']}, N = {record['turns']}, "
-            f"{record['parallel']} x {record['wire']}, gap {record['gap_mm']:.4g} mm ({gap})"
+            f"{record['parallel']} x {record['wire']}, gap {record['gap_mm']:.4g} mm ({gap}); "
+            f"{record['gap_method']}"
         )
         figures = Table(title=f"Figures (point figures at {record['operating_point']}, "
                               "the hottest operating point)")
@@ -530,6 +531,9 @@ def build_parser() -> argparse.ArgumentParser:
                           help="core sets stacked (default 1)")
     evaluate.add_argument("--gap-mm", type=_non_negative_float,
                           help="air gap [mm]; default: solved for the study's inductance")
+    evaluate.add_argument("--gap-kind", choices=("centre", "spacer"), dest="gap_kind",
+                          help="how the gap is made: centre (ground centre leg) or spacer "
+                               "(every leg gapped); default: the study's first gap kind")
     evaluate.add_argument("--json", action="store_true",
                           help="print the design's record in the shortlist.json format")
     verify = commands.add_parser(

@@ -23,7 +23,9 @@ from optimag.errors import InputError, Problem, ValidityRangeWarning
 
 @dataclass(frozen=True)
 class GivenDesign:
-    """A design named by catalogue ids; ``gap_mm`` None means solved as in the search."""
+    """A design named by catalogue ids; ``gap_mm`` None means solved as in the search;
+    ``gap_kind`` ("centre": ground centre leg, "spacer": every leg gapped) None means the
+    study's first allowed kind."""
 
     core: str
     material: str
@@ -33,6 +35,7 @@ class GivenDesign:
     stack: int = 1
     gap_mm: float | None = None
     name: str = "given"
+    gap_kind: str | None = None
 
 
 @dataclass(frozen=True)
@@ -75,10 +78,15 @@ def _index(table, ident: str, what: str, source: str, field: str, folder) -> tup
     return -1, [_problem(source, field, f"no {what} '{ident}' in the catalogue {folder}{hint}")]
 
 
+#: How a discrete gap can be made (`optimag evaluate --gap-kind`, `[[reference_designs]]`).
+GAP_KINDS = ("centre", "spacer")
+
+
 def _design_space(study, catalog, design: GivenDesign) -> model.DesignSpace:
+    kind = design.gap_kind or study.search.gap_kinds[0]
     search = study.search.model_copy(update={
         "cores": (design.core,), "materials": (design.material,), "wires": (design.wire,),
-        "gap": "solve",
+        "gap": "solve", "gap_kinds": (kind,),
     })
     narrowed = study.model_copy(update={"search": search})
     return model.build_design_space(narrowed, catalog)
@@ -102,6 +110,10 @@ def check_given(study, catalog, design: GivenDesign, source: str, prefix: str = 
         if int(value) < 1:
             problems.append(_problem(source, f"{prefix}{field}", f"must be at least 1, got "
                                                                   f"{value}"))
+    if design.gap_kind is not None and design.gap_kind not in GAP_KINDS:
+        problems.append(_problem(source, f"{prefix}gap_kind",
+                                 f"must be one of {', '.join(GAP_KINDS)}, got "
+                                 f"'{design.gap_kind}'"))
     if design.gap_mm is not None and not (math.isfinite(design.gap_mm) and design.gap_mm >= 0):
         problems.append(_problem(source, f"{prefix}gap_mm",
                                  f"must be a finite length >= 0, got {design.gap_mm}"))
@@ -113,14 +125,16 @@ def check_given(study, catalog, design: GivenDesign, source: str, prefix: str = 
                 f"core '{design.core}' stacks at most {int(core['max_stack'])} sets, "
                 f"got {design.stack}",
             ))
-        if mat_row >= 0 and design.gap_mm:
+        if mat_row >= 0:
             kind = str(catalog.materials.iloc[mat_row]["kind"])
-            if kind == "powder" or str(core["family"]) == "toroid":
-                problems.append(_problem(
-                    source, f"{prefix}gap_mm",
-                    "a discrete gap is cut only in ferrite E and pot cores; "
-                    f"{design.material} on {design.core} takes none (give 0 or leave it out)",
-                ))
+            ungappable = kind == "powder" or str(core["family"]) == "toroid"
+            for field, given in (("gap_mm", design.gap_mm), ("gap_kind", design.gap_kind)):
+                if ungappable and given:
+                    problems.append(_problem(
+                        source, f"{prefix}{field}",
+                        "a discrete gap is cut only in ferrite E and pot cores; "
+                        f"{design.material} on {design.core} takes none (leave it out)",
+                    ))
     if problems:
         raise InputError(problems)
 
@@ -200,6 +214,7 @@ def given_from_entry(entry) -> GivenDesign:
     return GivenDesign(
         core=entry.core, material=entry.material, turns=entry.turns, wire=entry.wire,
         parallel=entry.parallel, stack=entry.stack, gap_mm=entry.gap_mm, name=entry.name,
+        gap_kind=entry.gap_kind,
     )
 
 

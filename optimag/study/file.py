@@ -409,6 +409,10 @@ class ReferenceDesign(_Section):
     """Core sets stacked side by side."""
     gap_mm: _bounded(0.0, 100.0) | None = None
     """Air gap as built; absent: solved for the study's inductance like the search."""
+    gap_kind: Literal["centre", "spacer"] | None = None
+    """How the gap is made: "centre" (ground centre leg, outer legs touching) or "spacer"
+    (a spacer gaps every leg); absent: the first of [search] gap_kinds. Ferrite E and pot
+    cores only."""
 
 
 class Study(_Section):

@@ -28,6 +28,21 @@ def tiny_run(tmp_path_factory):
     return study, result.catalog, records
 
 
+@pytest.fixture(scope="module")
+def spacer_run(tmp_path_factory):
+    """A search whose gaps are made by a spacer (on the tiny study a spacer gap never
+    reaches the front when a ground centre leg is allowed too: it adds height)."""
+    folder = tmp_path_factory.mktemp("given-spacer")
+    path = write_tiny_study(folder)
+    text = path.read_text(encoding="utf-8")
+    path.write_text(text.replace("parallel_max = 2",
+                                 'parallel_max = 2\ngap_kinds = ["spacer"]'),
+                    encoding="utf-8")
+    study = load_study(path)
+    result = explore(study, top=20)
+    return study, result.catalog, json.loads(json.dumps(result.shortlist_records))
+
+
 def _args(record):
     return ["--core", record["core"], "--material", record["material"], "--turns",
             str(record["turns"]), "--wire", record["wire"], "--parallel",
@@ -44,6 +59,38 @@ def test_evaluate_json_reproduces_the_shortlist_record(tiny_run, capsys):
         assert {k: v for k, v in printed.items() if k not in RUN_PLACE} == {
             k: v for k, v in record.items() if k not in RUN_PLACE
         }
+
+
+@pytest.mark.parametrize("kind", ["centre", "spacer"])
+def test_evaluate_json_reproduces_records_of_either_gap_kind(tiny_run, spacer_run, capsys,
+                                                             kind):
+    study, _, records = tiny_run if kind == "centre" else spacer_run
+    record = next(r for r in records if r["inputs"]["gap_kind"] != "none")
+    assert record["inputs"]["gap_kind"] == kind
+    for given in ([], ["--gap-kind", kind]):  # the study's own kind, or named
+        code = main(["evaluate", str(study.path), *_args(record), *given, "--json"])
+        printed = json.loads(capsys.readouterr().out)
+        assert code == 0
+        assert printed.keys() == record.keys()
+        assert {k: v for k, v in printed.items() if k not in RUN_PLACE} == {
+            k: v for k, v in record.items() if k not in RUN_PLACE
+        }
+    # The other kind is another design, and the console says how its gap is made.
+    other = "spacer" if kind == "centre" else "centre"
+    main(["evaluate", str(study.path), *_args(record), "--gap-kind", other])
+    out = capsys.readouterr().out
+    assert ("spacer" in out) == (other == "spacer")
+    assert main(["evaluate", str(study.path), *_args(record), "--gap-kind", other,
+                 "--json"]) in (0, 1)
+    assert json.loads(capsys.readouterr().out)["inputs"]["gap_kind"] == other
+
+
+def test_gap_kind_on_a_powder_core_is_bad_input(tiny_run, capsys):
+    study, _, _ = tiny_run
+    code = main(["evaluate", str(study.path), "--core", "E-shape-20", "--material", "pwd-60u",
+                 "--turns", "20", "--wire", "awg-22", "--gap-kind", "spacer"])
+    err = capsys.readouterr().err
+    assert code == 2 and "command line: --gap_kind: " in err
 
 
 def test_evaluate_with_the_records_gap_gives_its_figures(tiny_run):
@@ -115,9 +162,21 @@ material = "fer-lowf"
 turns = 8
 wire = "awg-22"
 gap_mm = 0.2
+
+[[reference_designs]]
+name = "proposal on a spacer"
+core = "E-shape-17"
+material = "fer-lowf"
+turns = 8
+wire = "awg-22"
+gap_mm = 0.2
+gap_kind = "spacer"
 """
     study = load_study(write_tiny_study(tmp_path, extra=extra))
     refs = reference_design_records(study, load_catalog(study.catalog.path))
-    assert [r["design_id"] for r in refs] == ["bench", "proposal"]
+    assert [r["design_id"] for r in refs] == ["bench", "proposal", "proposal on a spacer"]
+    assert refs[1]["inputs"]["gap_kind"] == "centre" and refs[1]["gap_outer_leg_mm"] == 0
+    assert refs[2]["inputs"]["gap_kind"] == "spacer" and refs[2]["gap_outer_leg_mm"] == 0.2
+    assert refs[2]["gap_method"].startswith("spacer")
     assert refs[0]["total_loss_W"] == record["total_loss_W"] and refs[0]["violated"] == []
     assert refs[1]["gap_mm"] == 0.2 and refs[1]["violated"]
