@@ -280,10 +280,13 @@ def flux_plot_html(result: dict) -> str:
     """A self-contained HTML page with the flux plot and the check's figures."""
     from html import escape
 
+    from plotly.io import to_html
+
     from optimag.report.data import field_check_lines
     from optimag.report.figures import field_check_figure
 
-    body = field_check_figure(result).to_html(include_plotlyjs=True, full_html=False)
+    body = to_html(field_check_figure(result), include_plotlyjs=True, full_html=False,
+                   validate=False)
     rows = "".join(f"<tr><td>{escape(label)}</td><td>{escape(value)}</td></tr>"
                    for label, value in field_check_lines(result))
     return ("<!doctype html><html><head><meta charset='utf-8'><title>Field check "

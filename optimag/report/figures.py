@@ -1,6 +1,7 @@
 """Plotly renderers of the run report.
 
-Each function turns the output of `optimag.report.data` into one `go.Figure`. Every
+Each function turns the output of `optimag.report.data` into one figure dict
+(`optimag.report.figdict`), built directly rather than as validated graph objects. Every
 user-supplied string (design ids, core and material names, operating-point names,
 currency) goes through `plot_text` first: plotly draws text as a small HTML dialect,
 so unescaped names could inject markup into the page.
@@ -13,11 +14,11 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-import plotly.graph_objects as go
 
 from optimag import records
 from optimag.report import style
 from optimag.report.data import OBJECTIVES, PARALLEL_AXES, PairView, objective_title
+from optimag.report.figdict import Figure, plain, trace
 
 _HOVER = (
     "<b>%{customdata[0]}</b><br>"
@@ -46,9 +47,9 @@ def _merged(base: dict[str, Any], extra: dict[str, Any]) -> dict[str, Any]:
     return out
 
 
-def _styled(traces: list[Any], **layout: Any) -> go.Figure:
-    # One constructor call: plotly validates the layout once instead of per update.
-    return go.Figure(data=traces, layout=_merged(style.plotly_layout_defaults(), layout))
+def _styled(traces: list[Any], **layout: Any) -> Figure:
+    """A figure dict in the report's style, with plain JSON values only."""
+    return plain({"data": traces, "layout": _merged(style.plotly_layout_defaults(), layout)})
 
 
 def _hover_data(rows: pd.DataFrame, currency: str) -> np.ndarray:
@@ -87,7 +88,7 @@ def flagged_rows(front: pd.DataFrame) -> pd.DataFrame:
     return front[front["model_flags"].fillna("").astype(str) != ""]
 
 
-def _reference_trace(references: pd.DataFrame | None, columns: list[str], currency: str,
+def _referencetrace(references: pd.DataFrame | None, columns: list[str], currency: str,
                      three_d: bool = False) -> list[Any]:
     """The study's reference designs as labelled stars (filled: meets every constraint)."""
     if references is None or references.empty:
@@ -104,8 +105,8 @@ def _reference_trace(references: pd.DataFrame | None, columns: list[str], curren
         "line": {"color": style.BRICK, "width": 1.5},
     }
     coords = dict(zip(("x", "y", "z"), (rows[c] for c in columns), strict=False))
-    trace = go.Scatter3d if three_d else go.Scatter
-    return [trace(
+    kind = "scatter3d" if three_d else "scatter"
+    return [trace(kind,
         **coords,
         mode="markers+text",
         text=rows["design_id"].map(plot_text),
@@ -120,7 +121,7 @@ def _reference_trace(references: pd.DataFrame | None, columns: list[str], curren
 def tradeoff_pair_figure(
     front: pd.DataFrame, view: PairView, currency: str, hand: pd.DataFrame | None = None,
     references: pd.DataFrame | None = None,
-) -> go.Figure:
+) -> Figure:
     """Front designs in one objective pair: colour = material, symbol = core family.
 
     The dotted staircase joins the designs that stay non-dominated in this pair; the
@@ -133,7 +134,7 @@ def tradeoff_pair_figure(
     traces: list[Any] = []
     for material, family, rows in _groups(front):
         traces.append(
-            go.Scatter(
+            trace("scatter",
                 x=rows[view.x_column],
                 y=rows[view.y_column],
                 mode="markers",
@@ -152,7 +153,7 @@ def tradeoff_pair_figure(
     if view.front_ids:
         best = front.set_index("design_id").loc[list(view.front_ids)]
         traces.append(
-            go.Scatter(
+            trace("scatter",
                 x=best[view.x_column],
                 y=best[view.y_column],
                 mode="lines",
@@ -165,7 +166,7 @@ def tradeoff_pair_figure(
     flagged = flagged_rows(front)
     if len(flagged):
         traces.append(
-            go.Scatter(
+            trace("scatter",
                 x=flagged[view.x_column],
                 y=flagged[view.y_column],
                 mode="markers",
@@ -179,7 +180,7 @@ def tradeoff_pair_figure(
     knee = front[front["knee"]]
     if len(knee):
         traces.append(
-            go.Scatter(
+            trace("scatter",
                 x=knee[view.x_column],
                 y=knee[view.y_column],
                 mode="markers",
@@ -196,7 +197,7 @@ def tradeoff_pair_figure(
         )
     if hand is not None and len(hand):
         traces.append(
-            go.Scatter(
+            trace("scatter",
                 x=hand[view.x_column],
                 y=hand[view.y_column],
                 mode="markers+text",
@@ -215,7 +216,7 @@ def tradeoff_pair_figure(
                 ),
             )
         )
-    traces += _reference_trace(references, [view.x_column, view.y_column], currency)
+    traces += _referencetrace(references, [view.x_column, view.y_column], currency)
     return _styled(
         traces,
         xaxis={"title": {"text": plot_text(view.x_title)}},
@@ -236,7 +237,7 @@ def _yield_labels(front: pd.DataFrame, view: PairView) -> list[Any]:
         return []
     share = rows["yield_fraction"].astype(float)
     colours = np.select([share < 0.9, share < 0.99], [style.BRICK, style.OCHRE], style.SAGE)
-    return [go.Scatter(
+    return [trace("scatter",
         x=rows[view.x_column], y=rows[view.y_column], mode="markers+text",
         name="yield (ring: <90 % brick, <99 % ochre)",
         text=[f"{v:.0%}" for v in share], textposition="top right",
@@ -248,7 +249,7 @@ def _yield_labels(front: pd.DataFrame, view: PairView) -> list[Any]:
 
 
 def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str,
-                       references: pd.DataFrame | None = None) -> go.Figure:
+                       references: pd.DataFrame | None = None) -> Figure:
     """The front in the space of the run's first three objectives, with the study's
     reference designs marked."""
     columns = [OBJECTIVES[name][0] for name in objectives[:3]]
@@ -257,7 +258,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
     traces: list[Any] = []
     for material, family, rows in _groups(front):
         traces.append(
-            go.Scatter3d(
+            trace("scatter3d",
                 x=rows[columns[0]],
                 y=rows[columns[1]],
                 z=rows[columns[2]],
@@ -276,7 +277,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
     flagged = flagged_rows(front)
     if len(flagged):
         traces.append(
-            go.Scatter3d(
+            trace("scatter3d",
                 x=flagged[columns[0]],
                 y=flagged[columns[1]],
                 z=flagged[columns[2]],
@@ -290,7 +291,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
     knee = front[front["knee"]]
     if len(knee):
         traces.append(
-            go.Scatter3d(
+            trace("scatter3d",
                 x=knee[columns[0]],
                 y=knee[columns[1]],
                 z=knee[columns[2]],
@@ -301,7 +302,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
                 hovertemplate=_HOVER,
             )
         )
-    traces += _reference_trace(references, columns, currency, three_d=True)
+    traces += _referencetrace(references, columns, currency, three_d=True)
     scene_axis = {
         "backgroundcolor": style.PLOT_FIELD,
         "gridcolor": style.GRID,
@@ -321,7 +322,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
     )
 
 
-def shortlist_parallel_figure(shortlist: pd.DataFrame, currency: str) -> go.Figure:
+def shortlist_parallel_figure(shortlist: pd.DataFrame, currency: str) -> Figure:
     """The short-list on parallel axes; the knee design's line is ochre."""
     ranks = shortlist["rank"].astype(int).to_numpy()
     dimensions = [
@@ -338,7 +339,7 @@ def shortlist_parallel_figure(shortlist: pd.DataFrame, currency: str) -> go.Figu
             label = plot_text(records.header("cost", currency))
         dimensions.append({"label": label, "values": shortlist[column].astype(float)})
     traces = [
-        go.Parcoords(
+        trace("parcoords",
             dimensions=dimensions,
             line={
                 "color": shortlist["knee"].astype(float),
@@ -354,7 +355,7 @@ def shortlist_parallel_figure(shortlist: pd.DataFrame, currency: str) -> go.Figu
     return _styled(traces, height=400, margin={"l": 70, "r": 50, "t": 70, "b": 30})
 
 
-def winding_figure(shapes: pd.DataFrame, record: dict[str, Any]) -> go.Figure:
+def winding_figure(shapes: pd.DataFrame, record: dict[str, Any]) -> Figure:
     """To-scale drawing of the winding window, laid on its side.
 
     The breadth of the window runs left to right and the build grows upwards from
@@ -415,7 +416,7 @@ def winding_figure(shapes: pd.DataFrame, record: dict[str, Any]) -> go.Figure:
         for layer, turn in zip(conductors["layer"], conductors["turn"], strict=True)
     ]
     traces = [
-        go.Scatter(
+        trace("scatter",
             x=centre_x,
             y=centre_y,
             mode="markers",
@@ -471,7 +472,7 @@ def winding_figure(shapes: pd.DataFrame, record: dict[str, Any]) -> go.Figure:
     )
 
 
-def loss_figure(breakdown: pd.DataFrame) -> go.Figure:
+def loss_figure(breakdown: pd.DataFrame) -> Figure:
     """Stacked loss per operating point: core, DC winding, AC winding, gap loss in the
     winding."""
     points = list(dict.fromkeys(breakdown["operating_point"]))
@@ -483,7 +484,7 @@ def loss_figure(breakdown: pd.DataFrame) -> go.Figure:
     for component, colour in style.LOSS_COLOURS.items():
         part = breakdown[breakdown["component"] == component].set_index("operating_point")
         traces.append(
-            go.Bar(
+            trace("bar",
                 x=labels,
                 y=[float(part.loc[p, "loss_W"]) for p in points],
                 name=component,
@@ -493,7 +494,7 @@ def loss_figure(breakdown: pd.DataFrame) -> go.Figure:
         )
     totals = [float(shares.loc[p, "total_loss_W"]) for p in points]
     traces.append(
-        go.Scatter(
+        trace("scatter",
             x=labels,
             y=totals,
             mode="text",
@@ -515,7 +516,7 @@ def loss_figure(breakdown: pd.DataFrame) -> go.Figure:
     )
 
 
-def inductance_figure(record: dict[str, Any]) -> go.Figure:
+def inductance_figure(record: dict[str, Any]) -> Figure:
     """Inductance against current, with the peak current and the lowest allowed value."""
     curve = record["inductance_curve"]
     current = np.asarray(curve["current_A"], dtype=float)
@@ -524,7 +525,7 @@ def inductance_figure(record: dict[str, Any]) -> go.Figure:
     at_peak = float(record["inductance_at_peak_uH"])
     floor = float(record["margins"]["inductance_at_peak_limit"]) * float(inductance[0])
     traces = [
-        go.Scatter(
+        trace("scatter",
             x=current,
             y=inductance,
             mode="lines",
@@ -532,7 +533,7 @@ def inductance_figure(record: dict[str, Any]) -> go.Figure:
             name="L(I)",
             hovertemplate="%{x:.2f} A → %{y:.2f} µH<extra></extra>",
         ),
-        go.Scatter(
+        trace("scatter",
             x=[peak],
             y=[at_peak],
             mode="markers+text",
@@ -582,7 +583,7 @@ def inductance_figure(record: dict[str, Any]) -> go.Figure:
     )
 
 
-def margin_figure(margins: pd.DataFrame) -> go.Figure:
+def margin_figure(margins: pd.DataFrame) -> Figure:
     """Each checked quantity as a share of its limit; the 100 % line is the limit. Where
     the table gives a band (the hot spot's spread between thermal models), an error bar
     spans it."""
@@ -605,7 +606,7 @@ def margin_figure(margins: pd.DataFrame) -> go.Figure:
     above = np.where(has_band, np.maximum(100.0 * high / limit - percent, 0.0), 0.0)
     below = np.where(has_band, np.maximum(percent - 100.0 * low / limit, 0.0), 0.0)
     traces = [
-        go.Bar(
+        trace("bar",
             x=percent,
             y=labels,
             orientation="h",
@@ -643,19 +644,19 @@ def margin_figure(margins: pd.DataFrame) -> go.Figure:
     )
 
 
-def field_check_figure(result: dict[str, Any]) -> go.Figure:
+def field_check_figure(result: dict[str, Any]) -> Figure:
     """Plotly figure of the solved section: |B| as colour, flux lines as contours, iron
     and winding outlined."""
     plot = result["plot"]
     axis_x = "r [mm]" if result["section"] == "axisymmetric" else "x [mm]"
-    fig = go.Figure()
-    fig.add_trace(go.Heatmap(x=plot["x_mm"], y=plot["y_mm"], z=plot["b_T"],
-                             colorscale="Cividis", colorbar={"title": {"text": "|B| [T]"}},
-                             hovertemplate="%{x:.2f}, %{y:.2f} mm: %{z:.3f} T<extra></extra>"))
-    fig.add_trace(go.Contour(x=plot["x_mm"], y=plot["y_mm"], z=plot["potential"],
-                             contours={"coloring": "none"}, ncontours=28,
-                             line={"color": "white", "width": 1}, showscale=False,
-                             hoverinfo="skip"))
+    traces = [
+        trace("heatmap", x=plot["x_mm"], y=plot["y_mm"], z=plot["b_T"],
+               colorscale="Cividis", colorbar={"title": {"text": "|B| [T]"}},
+               hovertemplate="%{x:.2f}, %{y:.2f} mm: %{z:.3f} T<extra></extra>"),
+        trace("contour", x=plot["x_mm"], y=plot["y_mm"], z=plot["potential"],
+               contours={"coloring": "none"}, ncontours=28,
+               line={"color": "white", "width": 1}, showscale=False, hoverinfo="skip"),
+    ]
     shapes = [
         {"type": "rect", "x0": r[0], "x1": r[1], "y0": r[2], "y1": r[3],
          "line": {"color": "#d8ccb2", "width": 1.5}}
@@ -664,13 +665,12 @@ def field_check_figure(result: dict[str, Any]) -> go.Figure:
     c = plot["coil_mm"]
     shapes.append({"type": "rect", "x0": c[0], "x1": c[1], "y0": c[2], "y1": c[3],
                    "line": {"color": "#b8733a", "width": 2, "dash": "dot"}})
-    fig.update_layout(
-        shapes=shapes, height=460, margin={"l": 50, "r": 20, "t": 30, "b": 45},
-        xaxis={"title": {"text": axis_x}, "constrain": "domain"},
-        yaxis={"title": {"text": "height above the gap's mid-plane [mm]"},
-               "scaleanchor": "x", "scaleratio": 1},
-        title={"text": f"{plot_text(result['design_id'])}: flux at "
-                       f"{result['peak_current_A']:.3g} A (gap {result['gap_mm']:.3g} mm)",
-               "font": {"size": 13}},
-    )
-    return fig
+    return plain({"data": traces, "layout": {
+        "shapes": shapes, "height": 460, "margin": {"l": 50, "r": 20, "t": 30, "b": 45},
+        "xaxis": {"title": {"text": axis_x}, "constrain": "domain"},
+        "yaxis": {"title": {"text": "height above the gap's mid-plane [mm]"},
+                  "scaleanchor": "x", "scaleratio": 1},
+        "title": {"text": f"{plot_text(result['design_id'])}: flux at "
+                          f"{result['peak_current_A']:.3g} A (gap {result['gap_mm']:.3g} mm)",
+                  "font": {"size": 13}},
+    }})

@@ -1,7 +1,10 @@
 """Assemble the run report: one self-contained, offline HTML page per run folder.
 
-plotly.js is embedded once, inline, by the first figure; every later figure only
-carries its data. Nothing is fetched from the network: no CDN, no web fonts.
+plotly.js is embedded once, inline, at the end of the page. Each figure is a plain
+dict embedded in one compact JSON block; its slot is an empty div that the page's own
+script (`page.js`) fills when the slot comes into view, so the page is ready as soon
+as its first screen is drawn. Nothing is fetched from the network: no CDN, no web
+fonts.
 Every user string is escaped with `html.escape` before it reaches the page, and the
 JSON summary embedded in a ``<script>`` block has ``<``, ``>`` and ``&`` escaped so
 that no string can close the block.
@@ -17,10 +20,13 @@ from pathlib import Path
 from typing import Any
 
 import pandas as pd
-import plotly.graph_objects as go
 
 from optimag import files, records
 from optimag.report import data, figures, style, yields
+from optimag.report.figdict import Figure
+
+#: The page's own script (lazy figures), shipped beside this module.
+PAGE_SCRIPT = Path(__file__).with_name("page.js")
 
 REPORT_NAME = "report.html"
 
@@ -64,23 +70,39 @@ def json_for_script(value: Any) -> str:
 
 
 class _FigureSlots:
-    """Turns figures into page fragments; the first one carries plotly.js."""
+    """Collects the page's figures; each becomes an empty slot drawn when seen."""
 
     def __init__(self) -> None:
-        self.count = 0
+        self.figures: list[Figure] = []
 
-    def render(self, fig: go.Figure, role: str) -> str:
-        include_library = self.count == 0
-        self.count += 1
-        fragment = fig.to_html(
-            full_html=False,
-            include_plotlyjs=include_library,
-            config=style.PLOTLY_CONFIG,
-            div_id=f"figure-{self.count:03d}",
-            default_width="100%",
-            default_height=f"{int(fig.layout.height or 400)}px",
+    @property
+    def count(self) -> int:
+        return len(self.figures)
+
+    def render(self, fig: Figure, role: str) -> str:
+        self.figures.append(fig)
+        index = len(self.figures) - 1
+        height = int(fig.get("layout", {}).get("height") or 400)
+        return (
+            f'<div class="fig" data-role="{escape(role)}">'
+            f'<div id="figure-{index + 1:03d}" class="plotly-graph-div lazy-figure" '
+            f'data-figure="{index}" style="height:{height}px; width:100%;"></div></div>'
         )
-        return f'<div class="fig" data-role="{escape(role)}">{fragment}</div>'
+
+    def scripts(self) -> str:
+        """The figures' JSON block, plotly.js and the page's script (nothing without
+        figures)."""
+        if not self.figures:
+            return ""
+        from plotly.offline import get_plotlyjs
+
+        store = {"config": style.PLOTLY_CONFIG, "figures": self.figures}
+        return (
+            '<script type="application/json" id="optimag-figures">'
+            f"{json_for_script(store)}</script>"
+            f"<script>{get_plotlyjs()}</script>"
+            f"<script>{PAGE_SCRIPT.read_text(encoding='utf-8')}</script>"
+        )
 
 
 def _table(
@@ -659,6 +681,7 @@ def render_report(run: data.RunData) -> str:
         "</main>",
         '<script type="application/json" id="optimag-run-summary">'
         f"{json_for_script(_summary_json(run, front))}</script>",
+        slots.scripts(),
     ]
     return (
         '<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">'

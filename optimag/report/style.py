@@ -86,8 +86,8 @@ def family_symbol(family: str) -> str:
 def plotly_layout_defaults() -> dict[str, Any]:
     """Layout keys shared by every figure.
 
-    A dict rather than a registered template: each figure carries only these few keys,
-    instead of plotly's full default template, which keeps the page small.
+    A dict rather than a registered template: each figure carries only these few keys
+    (plotly.js draws a figure without a template from its own plain defaults).
     """
     axis = {
         "gridcolor": GRID,
@@ -98,7 +98,6 @@ def plotly_layout_defaults() -> dict[str, Any]:
         "automargin": True,
     }
     return {
-        "template": "none",
         "font": {"family": SANS_STACK, "color": INK, "size": 12},
         "paper_bgcolor": PANEL,
         "plot_bgcolor": PLOT_FIELD,

@@ -12,11 +12,11 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-import plotly.graph_objects as go
 
 from optimag import records
 from optimag.report import style
 from optimag.report.data import OBJECTIVES, RunData, objective_title
+from optimag.report.figdict import Figure, plain, trace
 from optimag.report.figures import plot_text
 
 #: Words for each spread of `optimag.tolerance.PARAMETERS`.
@@ -101,37 +101,38 @@ def _layout(**extra: Any) -> dict[str, Any]:
     return layout
 
 
-def histogram_figure(frame: pd.DataFrame, figure: str, limit: float | None) -> go.Figure:
+def histogram_figure(frame: pd.DataFrame, figure: str, limit: float | None) -> Figure:
     """Share of builds per bin, bins beyond the limit in brick, the limit dashed."""
     colours = np.where(frame["beyond"], style.BRICK, style.TEAL)
-    traces = [go.Bar(x=frame["centre"], y=frame["share"] * 100, width=frame["width"],
-                     marker={"color": list(colours)}, name="builds",
-                     hovertemplate="%{x:.4g}: %{y:.1f} % of builds<extra></extra>")]
+    traces = [trace("bar", x=frame["centre"], y=frame["share"] * 100, width=frame["width"],
+                    marker={"color": list(colours)}, name="builds",
+                    hovertemplate="%{x:.4g}: %{y:.1f} % of builds<extra></extra>")]
     shapes = []
     if limit is not None:
         shapes.append({"type": "line", "x0": limit, "x1": limit, "yref": "paper", "y0": 0,
                        "y1": 1, "line": {"dash": "dash", "color": style.INK, "width": 1.5}})
-    return go.Figure(data=traces, layout=_layout(
+    return plain({"data": traces, "layout": _layout(
         height=240, showlegend=False, shapes=shapes, bargap=0.02,
         xaxis={"title": {"text": plot_text(records.header(figure))}},
         yaxis={"title": {"text": "builds [%]"}},
         margin={"t": 10, "b": 40, "l": 50, "r": 10},
-    ))
+    )})
 
 
-def robust_figure(comparison: pd.DataFrame, x_title: str, y_title: str) -> go.Figure:
+def robust_figure(comparison: pd.DataFrame, x_title: str, y_title: str) -> Figure:
     """Nominal front in grey, robust front in teal."""
     traces = []
     for name, colour, size in (("nominal", style.SAND, 8), ("robust", style.TEAL, 11)):
         rows = comparison[comparison["front"] == name]
-        traces.append(go.Scatter(x=rows["x"], y=rows["y"], mode="markers", name=f"{name} front",
-                                 marker={"color": colour, "size": size,
-                                         "line": {"color": style.SLATE, "width": 0.6}}))
-    return go.Figure(data=traces, layout=_layout(
+        traces.append(trace("scatter", x=rows["x"], y=rows["y"], mode="markers",
+                            name=f"{name} front",
+                            marker={"color": colour, "size": size,
+                                    "line": {"color": style.SLATE, "width": 0.6}}))
+    return plain({"data": traces, "layout": _layout(
         height=380, xaxis={"title": {"text": plot_text(x_title)}},
         yaxis={"title": {"text": plot_text(y_title)}},
         legend={"orientation": "h", "yanchor": "top", "y": -0.2, "x": 0},
-    ))
+    )})
 
 
 def robust_titles(run: RunData) -> tuple[str, str]:

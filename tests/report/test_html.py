@@ -21,7 +21,7 @@ from hypothesis import strategies as st
 from plotly.offline import get_plotlyjs
 
 from optimag.report import data, figures
-from optimag.report.html import CAUTIONS, build_report, json_for_script
+from optimag.report.html import CAUTIONS, PAGE_SCRIPT, build_report, json_for_script
 
 SIZE_LIMIT_BYTES = 10_000_000
 BUILD_TIME_LIMIT_S = 5.0
@@ -103,22 +103,23 @@ def test_plotly_js_is_inline_exactly_once(page: str) -> None:
 
 
 def test_every_script_is_one_of_ours(page: str) -> None:
-    """Plotly's bundle and config line, one call per figure, one JSON block: nothing else."""
+    """Plotly's bundle, the page's own script and JSON blocks (summary, figures): nothing
+    else; one embedded figure per slot, each a plain {data, layout} dict."""
     bundle = get_plotlyjs()
-    figure_calls = json_blocks = 0
+    ours = PAGE_SCRIPT.read_text(encoding="utf-8")
+    blocks: dict[str, Any] = {}
     for attrs, body in _parse(page).scripts:
         assert "src" not in attrs
-        if body == bundle:
-            continue
         if attrs.get("type") == "application/json":
-            json_blocks += 1
-        elif "Plotly.newPlot(" in body:
-            figure_calls += 1
+            blocks[str(attrs.get("id"))] = json.loads(body)
         else:
-            assert body.strip().startswith("window.PlotlyConfig"), body[:200]
-    assert json_blocks == 1
+            assert body in (bundle, ours), body[:200]
+    assert set(blocks) == {"optimag-run-summary", "optimag-figures"}
+    embedded = blocks["optimag-figures"]["figures"]
     # Per build sheet: drawing, losses, inductance, headroom and two scatter histograms.
-    assert figure_calls == page.count('class="plotly-graph-div"') == 3 + 1 + 1 + 5 * (4 + 2)
+    assert len(embedded) == page.count('class="plotly-graph-div') == 3 + 1 + 1 + 5 * (4 + 2)
+    assert all(set(f) == {"data", "layout"} and f["data"] for f in embedded)
+    assert page.count("<script>") == 2
 
 
 def test_nothing_is_loaded_from_elsewhere(page: str) -> None:
@@ -192,7 +193,7 @@ def test_figure_text_is_escaped_for_plotly(run_dir: Path, hostile: dict[str, str
         figures.inductance_figure(record),
         figures.margin_figure(data.margin_table(record)),
     ]
-    texts = [s for fig in built for s in _strings(fig.to_plotly_json())]
+    texts = [s for fig in built for s in _strings(fig)]
     assert any("&lt;script&gt;" in s for s in texts)
     for text in texts:
         lowered = text.lower()
@@ -220,11 +221,11 @@ def test_margin_figure_property(values: list[float], limits: list[float]) -> Non
     }
     table = data.margin_table(record)
     fig = figures.margin_figure(table)
-    bars = np.asarray(fig.data[0].x, dtype=float)
+    bars = np.asarray(fig["data"][0]["x"], dtype=float)
     assert np.all(np.isfinite(bars))
     assert np.allclose(bars, 100 * np.asarray(values) / np.asarray(limits))
-    assert fig.layout.xaxis.range[1] >= bars.max()
-    colours = list(fig.data[0].marker.color)
+    assert fig["layout"]["xaxis"]["range"][1] >= bars.max()
+    colours = list(fig["data"][0]["marker"]["color"])
     assert [c == figures.style.SAGE for c in colours] == list(table["within"])
 
 
@@ -334,14 +335,14 @@ def test_headroom_chart_shows_the_hot_spot_band() -> None:
         },
     }
     fig = figures.margin_figure(data.margin_table(record))
-    bar = fig.data[0]
-    assert bar.error_x.visible
-    row = list(bar.y).index("Hot-spot temperature")
-    assert bar.x[row] == pytest.approx(88.0)
-    assert bar.error_x.array[row] == pytest.approx(9.0)  # up to 97 % of the limit
-    assert bar.error_x.arrayminus[row] == pytest.approx(4.0)  # down to 84 %
-    assert bar.error_x.array[0] == 0.0
-    assert "band 84–97 °C" in bar.text[row]
+    bar = fig["data"][0]
+    assert bar["error_x"]["visible"]
+    row = list(bar["y"]).index("Hot-spot temperature")
+    assert bar["x"][row] == pytest.approx(88.0)
+    assert bar["error_x"]["array"][row] == pytest.approx(9.0)  # up to 97 % of the limit
+    assert bar["error_x"]["arrayminus"][row] == pytest.approx(4.0)  # down to 84 %
+    assert bar["error_x"]["array"][0] == 0.0
+    assert "band 84–97 °C" in bar["text"][row]
 
 
 def test_reference_designs_are_marked_on_every_tradeoff_plot(run_dir: Path) -> None:
@@ -362,11 +363,12 @@ def test_reference_designs_are_marked_on_every_tradeoff_plot(run_dir: Path) -> N
              for v in views]
     built.append(figures.tradeoff_3d_figure(front, run.objectives, run.currency, references))
     for fig, view in zip(built, [*views, None], strict=True):
-        marked = [t for t in fig.data if t.name == "reference design"]
+        marked = [t for t in fig["data"] if t.get("name") == "reference design"]
         assert len(marked) == 1
-        assert list(marked[0].text) == ["bench", "proposal &lt;b&gt;"]
+        assert list(marked[0]["text"]) == ["bench", "proposal &lt;b&gt;"]
         if view is not None:
-            assert list(marked[0].x) == [bench[view.x_column], proposal[view.x_column]]
-            assert list(marked[0].marker.symbol) == ["star", "star-open"]
+            assert list(marked[0]["x"]) == pytest.approx(
+                [bench[view.x_column], proposal[view.x_column]], rel=1e-6)
+            assert list(marked[0]["marker"]["symbol"]) == ["star", "star-open"]
     page = build_report(run_dir).read_text("utf-8")
     assert "reference designs" in page
