@@ -52,6 +52,9 @@ PARETO_COLUMNS = tuple(records.PARETO_COLUMNS)
 RECORD_FIELDS = records.RECORD_FIELDS
 MARGIN_FIELDS = records.MARGIN_FIELDS
 WINDING_FIELDS = records.WINDING_FIELDS
+#: Record fields a front design off the short-list may lack (rank; the Monte Carlo yield
+#: when only the short-list was analysed).
+UNRANKED_OPTIONAL = ("rank", "yield_fraction", "yield_driver", "tolerance")
 RUN_FIELDS = (
     "version",
     "study_name",
@@ -113,6 +116,8 @@ class RunData:
     shortlist: list[dict[str, Any]]
     study_text: str
     started: datetime | None = None
+    #: Records of every front design (``front.json``; runs without it: the short-list).
+    front_records: list[dict[str, Any]] = field(default_factory=list)
 
     @property
     def objectives(self) -> list[str]:
@@ -180,12 +185,14 @@ def _read_json(path: Path, problems: list[Problem]) -> Any:
     return None
 
 
-def _check_record(record: Any, path: Path, position: int, problems: list[Problem]) -> None:
+def _check_record(record: Any, path: Path, position: int, problems: list[Problem],
+                  ranked: bool = True) -> None:
     if not isinstance(record, dict):
         problems.append(_problem(path, f"designs[{position}]", "not an object"))
         return
     name = f"designs[{position}]"
-    missing = [key for key in RECORD_FIELDS if key not in record]
+    missing = [key for key in RECORD_FIELDS if key not in record
+               and (ranked or key not in UNRANKED_OPTIONAL)]
     if missing:
         problems.append(_problem(path, name, f"missing fields: {', '.join(missing)}"))
         return
@@ -279,6 +286,18 @@ def load_run(run_dir: Path | str) -> RunData:
                     _check_record(record, shortlist_path, position, problems)
                 shortlist = designs
 
+    front_records: list[dict[str, Any]] = []
+    front_path = folder / "front.json"
+    if front_path.exists():
+        loaded = _read_json(front_path, problems)
+        designs = loaded.get("designs") if isinstance(loaded, dict) else None
+        if loaded is not None and not isinstance(designs, list):
+            problems.append(_problem(front_path, "designs", "expected a list"))
+        elif designs is not None:
+            for position, record in enumerate(designs):
+                _check_record(record, front_path, position, problems, ranked=False)
+            front_records = designs
+
     if problems:
         raise InputError(problems)
 
@@ -291,6 +310,7 @@ def load_run(run_dir: Path | str) -> RunData:
         shortlist=shortlist,
         study_text=study_text,
         started=folder_time(folder),
+        front_records=front_records or list(shortlist),
     )
 
 

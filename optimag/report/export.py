@@ -160,7 +160,8 @@ def write_xlsx(path: Path, design_records: list[dict], currency: str = "") -> No
 
 
 def write_tables(
-    run_dir: Path, pareto: pd.DataFrame, shortlist_records: list[dict], currency: str = ""
+    run_dir: Path, pareto: pd.DataFrame, shortlist_records: list[dict], currency: str = "",
+    front_records: list[dict] | None = None,
 ) -> None:
     """Write pareto.csv and the short-list as csv, xlsx and json into ``run_dir``.
 
@@ -173,3 +174,6 @@ def write_tables(
     write_xlsx(run_dir / "shortlist.xlsx", shortlist_records, currency)
     text = json.dumps({"designs": shortlist_records}, indent=1, allow_nan=False)
     _atomic(run_dir / "shortlist.json", lambda temp: temp.write_text(text, encoding="utf-8"))
+    if front_records:
+        front = json.dumps({"designs": front_records}, separators=(",", ":"), allow_nan=False)
+        _atomic(run_dir / "front.json", lambda temp: temp.write_text(front, encoding="utf-8"))

@@ -74,6 +74,12 @@ def _hover_data(rows: pd.DataFrame, currency: str) -> np.ndarray:
     )
 
 
+def _ids(rows: pd.DataFrame) -> list[str]:
+    """Design ids as trace ``ids``: the page opens a design's build sheet from a click on
+    its point (never drawn as text, so not escaped)."""
+    return [str(v) for v in rows["design_id"]]
+
+
 def _groups(front: pd.DataFrame) -> list[tuple[str, str, pd.DataFrame]]:
     return [
         (str(material), str(family), rows)
@@ -114,6 +120,7 @@ def _referencetrace(references: pd.DataFrame | None, columns: list[str], currenc
         name="reference design",
         marker=marker,
         customdata=_hover_data(rows, currency),
+        ids=_ids(rows),
         hovertemplate=_HOVER,
     )]
 
@@ -147,6 +154,7 @@ def tradeoff_pair_figure(
                     "line": {"color": style.PANEL, "width": 1},
                 },
                 customdata=_hover_data(rows, currency),
+                ids=_ids(rows),
                 hovertemplate=_HOVER,
             )
         )
@@ -174,6 +182,7 @@ def tradeoff_pair_figure(
                 marker={"symbol": "square-open", "size": 20, "color": style.SLATE,
                         "line": {"width": 1.5, "color": style.SLATE}},
                 customdata=_hover_data(flagged, currency),
+                ids=_ids(flagged),
                 hovertemplate=_HOVER,
             )
         )
@@ -192,6 +201,7 @@ def tradeoff_pair_figure(
                     "line": {"width": 3, "color": style.OCHRE},
                 },
                 customdata=_hover_data(knee, currency),
+                ids=_ids(knee),
                 hovertemplate=_HOVER,
             )
         )
@@ -244,6 +254,7 @@ def _yield_labels(front: pd.DataFrame, view: PairView) -> list[Any]:
         textfont={"size": 10, "color": style.MUTED},
         marker={"symbol": "circle-open", "size": 17, "color": list(colours),
                 "line": {"width": 2}},
+        ids=_ids(rows),
         hovertemplate="yield %{text}<extra></extra>",
     )]
 
@@ -271,6 +282,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
                     "line": {"color": style.PANEL, "width": 0.5},
                 },
                 customdata=_hover_data(rows, currency),
+                ids=_ids(rows),
                 hovertemplate=_HOVER,
             )
         )
@@ -285,6 +297,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
                 name="outside a model's range",
                 marker={"symbol": "square-open", "size": 11, "color": style.SLATE},
                 customdata=_hover_data(flagged, currency),
+                ids=_ids(flagged),
                 hovertemplate=_HOVER,
             )
         )
@@ -299,6 +312,7 @@ def tradeoff_3d_figure(front: pd.DataFrame, objectives: list[str], currency: str
                 name="knee",
                 marker={"symbol": "circle-open", "size": 14, "color": style.OCHRE},
                 customdata=_hover_data(knee, currency),
+                ids=_ids(knee),
                 hovertemplate=_HOVER,
             )
         )
@@ -347,6 +361,7 @@ def shortlist_parallel_figure(shortlist: pd.DataFrame, currency: str) -> Figure:
                 "cmin": 0.0,
                 "cmax": 1.0,
             },
+            meta={"designs": _ids(shortlist)},
             labelfont={"size": 12, "color": style.INK},
             tickfont={"size": 10, "color": style.MUTED},
             rangefont={"size": 9, "color": style.MUTED},

@@ -110,17 +110,22 @@ def _table(
     rows: Iterable[Sequence[Any]],
     numeric: Sequence[bool] | None = None,
     css: str = "data",
+    designs: Sequence[str] | None = None,
 ) -> str:
-    """An HTML table; every header and cell is escaped here, values arrive raw."""
+    """An HTML table; every header and cell is escaped here, values arrive raw.
+    ``designs``: the design id of each row (a click on the row opens its build sheet)."""
     numeric = numeric or [False] * len(headers)
     head = "".join(f"<th>{escape(h)}</th>" for h in headers)
     body = []
-    for row in rows:
+    for index, row in enumerate(rows):
         cells = "".join(
             f'<td class="num">{escape(v)}</td>' if is_num else f"<td>{escape(v)}</td>"
             for v, is_num in zip(row, numeric, strict=True)
         )
-        body.append(f"<tr>{cells}</tr>")
+        attributes = ""
+        if designs is not None:
+            attributes = f' class="pick" data-design="{escape(designs[index])}"'
+        body.append(f"<tr{attributes}>{cells}</tr>")
     return (
         f'<div class="scroll"><table class="{css}"><thead><tr>{head}</tr></thead>'
         f"<tbody>{''.join(body)}</tbody></table></div>"
@@ -373,8 +378,11 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
         ],
         rows,
         [True, False, False, False, True, True, False, True, True, True, True, True],
+        designs=[str(v) for v in table["design_id"]],
     )
-    body = _card("Parallel axes", figure) + _card("Ranked list", listing, spaced=True)
+    body = _card("Parallel axes", figure) + _card(
+        "Ranked list", listing, "Click a row, or a line on the parallel axes, to open that "
+        "design's build sheet.", spaced=True)
     lede = (
         "The short-listed designs on shared axes: follow a line to see what each design "
         "trades. The knee design is drawn in ochre; drag along an axis to filter."
@@ -459,7 +467,15 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots,
         )
 
     knee = bool(record.get("knee"))
-    badges = f'<span class="badge">rank {int(record["rank"])}</span>'
+    if record.get("rank") is not None:
+        badges = f'<span class="badge">rank {int(record["rank"])}</span>'
+    elif "violated" in record:
+        badges = '<span class="badge">reference design</span>'
+        if record.get("violated"):
+            badges += (f'<span class="badge warn">misses '
+                       f"{escape(', '.join(map(str, record['violated'])))}</span>")
+    else:
+        badges = '<span class="badge">front design</span>'
     if knee:
         badges += '<span class="badge knee">knee</span>'
     if bool(record.get("dcm")):
@@ -477,7 +493,8 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots,
     )
     return (
         f'<article class="sheet{" knee" if knee else ""}" '
-        f'id="design-{escape(record["design_id"])}">'
+        f'id="design-{escape(record["design_id"])}" '
+        f'data-design="{escape(record["design_id"])}">'
         f"<header><h3>{escape(record['design_id'])} — {escape(record['core'])}, "
         f"{escape(record['material'])}</h3>{badges}"
         f'<span class="note">{escape(summary)}</span></header>'
@@ -538,6 +555,24 @@ def _robust(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
                  note, spaced=True)
 
 
+def _sheet_templates(run: data.RunData, slots: _FigureSlots) -> str:
+    """Build sheets of the front designs not short-listed and of the reference designs,
+    as inert templates: the page copies one in (and draws its figures) when the design is
+    opened from a plot or a list."""
+    shown = {str(r["design_id"]) for r in run.shortlist}
+    checks = run.field_checks
+    extra = [r for r in run.front_records if str(r["design_id"]) not in shown]
+    extra += [r for r in run.reference_designs if str(r.get("design_id")) not in shown]
+    templates = []
+    for record in extra:
+        design = str(record["design_id"])
+        sheet = _build_sheet(record, run.currency, slots, checks.get(design))
+        templates.append(
+            f'<template class="sheet-template" data-design="{escape(design)}">{sheet}</template>'
+        )
+    return "".join(templates)
+
+
 def _build_sheets(run: data.RunData, slots: _FigureSlots) -> str:
     records = sorted(run.shortlist, key=lambda r: int(r["rank"]))
     checks = run.field_checks
@@ -547,9 +582,13 @@ def _build_sheets(run: data.RunData, slots: _FigureSlots) -> str:
     lede = (
         "Everything needed to wind each short-listed design: parts, the window to scale, "
         "where the loss arises at each operating point, how inductance falls with current, "
-        "and how close each limit is."
+        "and how close each limit is. Every other front design (and each reference design) "
+        "opens here with a click on its point in any trade-off plot."
     )
-    return _section(3, "build", "Build sheets", lede, body or "<p>No designs short-listed.</p>")
+    opened = '<div id="opened-sheets"></div>'
+    return _section(3, "build", "Build sheets", lede,
+                    opened + (body or "<p>No designs short-listed.</p>")
+                    + _sheet_templates(run, slots))
 
 
 def _ruled_out(run: data.RunData) -> str:
@@ -657,6 +696,9 @@ td.share .bar { position: absolute; left: 0; bottom: 2px; height: 3px;
   background: var(--ochre); border-radius: 2px; }
 code { font-family: inherit; color: var(--teal); }
 .stack { display: flex; flex-direction: column; gap: 14px; min-width: 0; }
+tr.pick { cursor: pointer; }
+tr.pick:hover td { background: rgba(201, 146, 43, 0.12); }
+article.sheet.opened { outline: 2px solid var(--ochre); outline-offset: 4px; }
 """
 
 

@@ -45,6 +45,8 @@ class ExploreResult:
     front_metrics: dict[str, np.ndarray] | None
     near_miss_records: list[dict] = field(default_factory=list)
     run_dir: Path | None = None
+    #: Records of every front design (the short-listed ones among them), front order.
+    front_records: list[dict] = field(default_factory=list)
 
     @property
     def feasible(self) -> bool:
@@ -217,6 +219,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
     tolerance_record: dict = {}
     pareto = pd.DataFrame(columns=records.PARETO_COLUMNS)
     shortlist_records: list[dict] = []
+    front_records: list[dict] = []
     front_ids: list[str] = []
     order = np.arange(0)
     if len(front):
@@ -317,6 +320,7 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         shortlist=records.records_frame(shortlist_records), shortlist_records=shortlist_records,
         eliminated=eliminated, record=record, front_candidates=front_candidates,
         front_metrics=front_metrics, near_miss_records=near_records,
+        front_records=front_records,
     )
 
 

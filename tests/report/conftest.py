@@ -421,6 +421,12 @@ def make_run_folder(
     (folder / "shortlist.json").write_text(
         json.dumps({"designs": shortlist}, indent=1, ensure_ascii=False), "utf-8"
     )
+    ranks = {d["design_id"]: d["rank"] for d in shortlist}
+    front = [dict(d, rank=ranks[d["design_id"]]) if d["design_id"] in ranks else d
+             for d in designs]
+    (folder / "front.json").write_text(
+        json.dumps({"designs": front}, ensure_ascii=False), "utf-8"
+    )
     return folder
 
 

@@ -99,8 +99,14 @@ class _DomSurvey(HTMLParser):
         self._open: list[tuple[str, int]] = []
         self._depth = 0
         self._in_h1 = False
+        #: Inside inert <template> content (sheets not opened yet): not surveyed.
+        self._templates = 0
 
     def handle_starttag(self, tag: str, attrs: list[tuple[str, str | None]]) -> None:
+        if tag == "template":
+            self._templates += 1
+        if self._templates:
+            return
         attributes = dict(attrs)
         if tag == "body":
             self.body_attributes = attributes
@@ -121,6 +127,10 @@ class _DomSurvey(HTMLParser):
                 self.figures[figure_id] = True
 
     def handle_endtag(self, tag: str) -> None:
+        if tag == "template":
+            self._templates -= 1
+        if self._templates:
+            return
         if tag == "h1":
             self._in_h1 = False
         if tag == "div":
@@ -162,7 +172,8 @@ def report_visit(built_report: Path, tmp_path_factory: pytest.TempPathFactory) -
 
 
 def test_every_figure_renders_an_svg(report_visit: Visit, built_report: Path) -> None:
-    expected = built_report.read_text("utf-8").count('class="plotly-graph-div')
+    # Slots on the page itself (sheets kept in templates are drawn only when opened).
+    expected = len(survey(built_report.read_text("utf-8")).figures)
     found = survey(report_visit.dom)
     print(f"figures rendered: {sum(found.figures.values())} of {expected}; first screen "
           f"ready after {report_visit.ready_ms:.0f} ms")
@@ -230,3 +241,76 @@ def test_the_checks_catch_a_broken_page(tmp_path: Path, hostile: dict[str, str])
     assert any("notDefinedAnywhere" in p for p in seen.console)
     assert seen.requests == ["http://example.invalid/pixel.png"]
     assert "data-pwned" in survey(seen.dom).body_attributes
+
+
+#: Centres of the points of a drawn scatter figure with their design ids (trace ``ids``),
+#: in viewport pixels.
+POINTS_JS = """(function (div) {
+  var out = [];
+  var groups = div.querySelectorAll('g.scatterlayer g.trace');
+  for (var t = 0; t < div.data.length; t += 1) {
+    var ids = div.data[t].ids;
+    if (!ids || !groups[t]) continue;
+    var points = groups[t].querySelectorAll('path.point');
+    for (var p = 0; p < points.length && p < ids.length; p += 1) {
+      var r = points[p].getBoundingClientRect();
+      out.push([ids[p], r.left + r.width / 2, r.top + r.height / 2]);
+    }
+  }
+  return out;
+})"""
+
+
+def _open_page(browser: Browser, page: Path) -> Tab:
+    tab = browser.open(page.resolve().as_uri())
+    tab.wait_for("document.documentElement && "
+                 "document.documentElement.getAttribute('data-ready')", DRAW_TIMEOUT_S)
+    return tab
+
+
+def test_a_click_on_a_front_point_opens_its_build_sheet(built_report: Path) -> None:
+    """A real mouse click on a front design that is not short-listed, in the first
+    trade-off plot, brings in that design's build sheet with its figures drawn."""
+    chromium_or_skip()
+    with Browser(window=WINDOW) as browser:
+        tab = _open_page(browser, built_report)
+        first = "document.querySelector('div.fig[data-role=pair] div.lazy-figure')"
+        tab.evaluate(f"{first}.scrollIntoView({{block: 'center'}})")
+        tab.wait_for(f"{first}.querySelector('svg.main-svg') !== null", DRAW_TIMEOUT_S)
+        points = tab.evaluate(f"{POINTS_JS}({first})")
+        hidden = set(tab.evaluate(
+            "Array.from(document.querySelectorAll('template.sheet-template'))"
+            ".map(t => t.getAttribute('data-design'))"))
+        assert hidden
+
+        def clear(design: str, x: float, y: float) -> bool:
+            return all(other == design or (x - ox) ** 2 + (y - oy) ** 2 > 14**2
+                       for other, ox, oy in points)
+
+        design, x, y = next(p for p in points if p[0] in hidden and clear(*p))
+        assert tab.evaluate("document.querySelector('#opened-sheets article') === null")
+        tab.click(x, y)
+        opened = tab.wait_for(
+            "(document.querySelector('#opened-sheets article.sheet') || {}).id", 30)
+        assert opened == f"design-{design}"
+        sheet = "document.querySelector('#opened-sheets article.sheet')"
+        assert tab.evaluate(f"{sheet}.classList.contains('opened')")
+        tab.wait_for(f"{sheet}.querySelector('svg.main-svg') !== null", DRAW_TIMEOUT_S)
+        title = tab.evaluate(f"{sheet}.querySelector('h3').textContent")
+        assert title.startswith(f"{design} — ")
+        assert tab.console_problems() == []
+
+
+def test_a_click_on_a_ranked_row_opens_its_build_sheet(built_report: Path) -> None:
+    chromium_or_skip()
+    with Browser(window=WINDOW) as browser:
+        tab = _open_page(browser, built_report)
+        row = "document.querySelectorAll('tr.pick')[2]"
+        design = tab.evaluate(f"{row}.getAttribute('data-design')")
+        tab.click_element(row)
+        shown = tab.wait_for(
+            "(document.querySelector('article.sheet.opened') || {}).id", 30)
+        assert shown == f"design-{design}"
+        top = tab.evaluate("document.querySelector('article.sheet.opened')"
+                           ".getBoundingClientRect().top")
+        assert abs(top) < 5  # scrolled to it

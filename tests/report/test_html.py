@@ -116,8 +116,10 @@ def test_every_script_is_one_of_ours(page: str) -> None:
             assert body in (bundle, ours), body[:200]
     assert set(blocks) == {"optimag-run-summary", "optimag-figures"}
     embedded = blocks["optimag-figures"]["figures"]
-    # Per build sheet: drawing, losses, inductance, headroom and two scatter histograms.
-    assert len(embedded) == page.count('class="plotly-graph-div') == 3 + 1 + 1 + 5 * (4 + 2)
+    # Per build sheet: drawing, losses, inductance, headroom and two scatter histograms;
+    # 5 sheets shown, 7 more (the other front designs) as templates.
+    assert len(embedded) == page.count('class="plotly-graph-div') == 3 + 1 + 1 + 12 * (4 + 2)
+    assert page.count('<template class="sheet-template"') == 7
     assert all(set(f) == {"data", "layout"} and f["data"] for f in embedded)
     assert page.count("<script>") == 2
 
@@ -174,7 +176,9 @@ def test_sections_and_cautions(page: str) -> None:
         assert word in cautions
     for text in CAUTIONS:
         assert text.replace("'", "&#x27;") in page
-    assert page.count('class="sheet') == 5
+    # Five short-listed sheets on the page, the seven other front designs' in templates.
+    assert page.count('<article class="sheet') == 12
+    assert page.count('<template class="sheet-template"') == 7
 
 
 def test_figure_text_is_escaped_for_plotly(run_dir: Path, hostile: dict[str, str]) -> None:
@@ -257,10 +261,11 @@ def test_a_bad_record_costs_one_panel_not_the_report(run_dir: Path) -> None:
     designs[1]["winding"]["layers"] += 2
     designs[2]["per_operating_point"][0]["total_loss_W"] += 1.0
     path.write_text(json.dumps({"designs": designs}), "utf-8")
+    (run_dir / "front.json").unlink()  # the short-list alone
     text = build_report(run_dir).read_text("utf-8")
     assert text.count("Drawing unavailable") == 1
     assert text.count("Unavailable: ") == 1
-    assert text.count('class="sheet') == 5
+    assert text.count('<article class="sheet') == 5
 
 
 def test_limits_not_set_and_interrupted_runs(run_dir: Path) -> None:
