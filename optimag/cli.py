@@ -44,17 +44,19 @@ def _print_problems(problems: list[Problem]) -> None:
 
 
 def _check(path_text: str) -> int:
+    # Only what validation needs (no model, no pandas): `check` starts fast
+    # (tests/test_cli_start.py).
     from optimag.catalog import load_catalog
-    from optimag.search.run import check_study_against_catalog
     from optimag.study import load_study
+    from optimag.study.catalog_check import check_study_against_catalog
 
     path = Path(path_text)
     try:
         if path.is_dir():
             catalog = load_catalog(path)
             print(
-                f"OK: catalogue {path}: {len(catalog.cores)} cores, "
-                f"{len(catalog.materials)} materials, {len(catalog.wires)} wires"
+                f"OK: catalogue {path}: {catalog.count('cores')} cores, "
+                f"{catalog.count('materials')} materials, {catalog.count('wires')} wires"
             )
             return 0
         study = load_study(path)
@@ -67,8 +69,8 @@ def _check(path_text: str) -> int:
         f"OK: study '{study.name}' "
         f"({study.converter.topology}, "
         f"{len(study.operating_points)} operating point(s)); catalogue {study.catalog.path}: "
-        f"{len(catalog.cores)} cores, {len(catalog.materials)} materials, "
-        f"{len(catalog.wires)} wires"
+        f"{catalog.count('cores')} cores, {catalog.count('materials')} materials, "
+        f"{catalog.count('wires')} wires"
     )
     for line in _defaults_lines(study):
         print(line)

@@ -10,9 +10,10 @@ from __future__ import annotations
 
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import numpy as np
-from numpy.typing import ArrayLike
+if TYPE_CHECKING:  # numpy is imported where it is used: the command line starts without it
+    from numpy.typing import ArrayLike
 
 
 class ValidityRangeWarning(UserWarning):
@@ -25,6 +26,8 @@ def warn_outside_range(condition: ArrayLike, message: str) -> None:
     Called by a physics function about its own inputs; the warning points at that
     function's caller. One ``np.any`` per call, never a warning per element.
     """
+    import numpy as np
+
     if np.any(condition):
         warnings.warn(message, ValidityRangeWarning, stacklevel=3)
 

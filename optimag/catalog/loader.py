@@ -37,15 +37,17 @@ from array import array
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, BinaryIO, TextIO
+from typing import TYPE_CHECKING, Any, BinaryIO, TextIO
 
 import numpy as np
-import pandas as pd
 
 from optimag import ranges as R
 from optimag.catalog.cross_checks import RowValues
 from optimag.catalog.schema import TABLES, Table
 from optimag.errors import InputError, Problem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 # Only plain decimal notation: float() would also accept "nan", "inf", "1_000" and "0x10".
 _NUMBER = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
@@ -55,7 +57,6 @@ _NON_FINITE_WORDS = frozenset(
     {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 )
 
-@dataclass(frozen=True, eq=False)
 class Catalog:
     """A validated catalogue.
 
@@ -64,15 +65,57 @@ class Catalog:
     folder : the folder the tables were read from
     cores, materials, wires : one row per catalogue entry, index 0..n-1, columns in the
         order of :data:`TABLES` plus ``line`` (1-based CSV line, header = 1); numeric columns
-        are float64 (NaN where not applicable), ``max_stack`` and ``strands`` int64
+        are float64 (NaN where not applicable), ``max_stack`` and ``strands`` int64. Given
+        as DataFrames or as the loader's compact columns, which become DataFrames on first
+        use (so validating a study against a catalogue never imports pandas).
     content_hash : sha256 hex digest of the three files (see :func:`catalog_content_hash`)
     """
 
-    folder: Path
-    cores: pd.DataFrame
-    materials: pd.DataFrame
-    wires: pd.DataFrame
-    content_hash: str
+    TABLE_NAMES = ("cores", "materials", "wires")
+
+    def __init__(self, folder: Path, cores: Any, materials: Any, wires: Any,
+                 content_hash: str):
+        self.folder = folder
+        self.content_hash = content_hash
+        self._tables = {"cores": cores, "materials": materials, "wires": wires}
+
+    @property
+    def cores(self) -> pd.DataFrame:
+        return self.frame("cores")
+
+    @property
+    def materials(self) -> pd.DataFrame:
+        return self.frame("materials")
+
+    @property
+    def wires(self) -> pd.DataFrame:
+        return self.frame("wires")
+
+    def frame(self, table: str) -> pd.DataFrame:
+        """Table ``table`` ("cores", "materials" or "wires") as a DataFrame."""
+        rows = self._tables[table]
+        if isinstance(rows, _Columns):
+            rows = self._tables[table] = rows.frame()
+        return rows
+
+    def count(self, table: str) -> int:
+        """Rows of table ``table``."""
+        return len(self._tables[table])
+
+    def ids(self, table: str) -> list[str]:
+        """The ``id`` column of table ``table``, in row order."""
+        rows = self._tables[table]
+        if isinstance(rows, _Columns):
+            return list(rows.texts["id"])
+        return rows["id"].astype(str).tolist()
+
+    def value(self, table: str, row: int, column: str) -> Any:
+        """The cell of ``column`` in row ``row`` (0-based) of table ``table``."""
+        rows = self._tables[table]
+        if isinstance(rows, _Columns):
+            source = rows.texts.get(column)
+            return source[row] if source is not None else rows.numbers[column][row]
+        return rows[column].iloc[row]
 
 
 def catalog_content_hash(file_bytes: Sequence[tuple[str, bytes]]) -> str:
@@ -128,6 +171,8 @@ class _Columns:
     def frame(self) -> pd.DataFrame:
         """The rows as a DataFrame; the compact arrays are released column by column as
         they are copied, so the peak is the frame plus one column."""
+        import pandas as pd
+
         data: dict[str, object] = {}
         for column in self.table.columns:
             if column.name in self.texts:
@@ -601,7 +646,7 @@ def _read(folder: str | Path) -> tuple[list[Problem], Catalog | None]:
         problems.extend(result.problems)
     if problems:
         return problems, None
-    cores, materials, wires = (result.rows.frame() for result in parsed)
+    cores, materials, wires = (result.rows for result in parsed)
     catalog = Catalog(
         folder=folder_path,
         cores=cores,

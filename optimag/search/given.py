@@ -10,7 +10,6 @@ record is the one the search would write for the same design.
 
 from __future__ import annotations
 
-import difflib
 import math
 import warnings
 from dataclasses import dataclass, replace
@@ -18,24 +17,13 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from optimag import model, records, tolerance
-from optimag.errors import InputError, Problem, ValidityRangeWarning
-
-
-@dataclass(frozen=True)
-class GivenDesign:
-    """A design named by catalogue ids; ``gap_mm`` None means solved as in the search;
-    ``gap_kind`` ("centre": ground centre leg, "spacer": every leg gapped) None means the
-    study's first allowed kind."""
-
-    core: str
-    material: str
-    turns: int
-    wire: str
-    parallel: int = 1
-    stack: int = 1
-    gap_mm: float | None = None
-    name: str = "given"
-    gap_kind: str | None = None
+from optimag.errors import ValidityRangeWarning
+from optimag.study.catalog_check import (  # noqa: F401  (part of this module's interface)
+    GAP_KINDS,
+    GivenDesign,
+    check_given,
+    given_from_entry,
+)
 
 
 @dataclass(frozen=True)
@@ -65,23 +53,6 @@ class Evaluation:
         return [c.name for c in self.checks if not c.met]
 
 
-def _problem(source: str, field: str, message: str) -> Problem:
-    return Problem(source, None, field, message)
-
-
-def _index(table, ident: str, what: str, source: str, field: str, folder) -> tuple[int, list]:
-    ids = table["id"].astype(str).tolist()
-    if ident in ids:
-        return ids.index(ident), []
-    close = difflib.get_close_matches(ident, ids, n=1)
-    hint = f"; did you mean '{close[0]}'?" if close else ""
-    return -1, [_problem(source, field, f"no {what} '{ident}' in the catalogue {folder}{hint}")]
-
-
-#: How a discrete gap can be made (`optimag evaluate --gap-kind`, `[[reference_designs]]`).
-GAP_KINDS = ("centre", "spacer")
-
-
 def _design_space(study, catalog, design: GivenDesign) -> model.DesignSpace:
     kind = design.gap_kind or study.search.gap_kinds[0]
     search = study.search.model_copy(update={
@@ -90,53 +61,6 @@ def _design_space(study, catalog, design: GivenDesign) -> model.DesignSpace:
     })
     narrowed = study.model_copy(update={"search": search})
     return model.build_design_space(narrowed, catalog)
-
-
-def check_given(study, catalog, design: GivenDesign, source: str, prefix: str = "") -> None:
-    """Raise `InputError` listing every problem of a given design against the catalogue.
-
-    ``source`` names the file (or command line) the design came from; ``prefix`` is
-    prepended to field names (``reference_designs[0].`` or ``--``)."""
-    problems: list[Problem] = []
-    folder = catalog.folder
-    core_row, found = _index(catalog.cores, design.core, "core", source, f"{prefix}core", folder)
-    problems += found
-    mat_row, found = _index(catalog.materials, design.material, "material", source,
-                            f"{prefix}material", folder)
-    problems += found
-    problems += _index(catalog.wires, design.wire, "wire", source, f"{prefix}wire", folder)[1]
-    for field, value in (("turns", design.turns), ("parallel", design.parallel),
-                         ("stack", design.stack)):
-        if int(value) < 1:
-            problems.append(_problem(source, f"{prefix}{field}", f"must be at least 1, got "
-                                                                  f"{value}"))
-    if design.gap_kind is not None and design.gap_kind not in GAP_KINDS:
-        problems.append(_problem(source, f"{prefix}gap_kind",
-                                 f"must be one of {', '.join(GAP_KINDS)}, got "
-                                 f"'{design.gap_kind}'"))
-    if design.gap_mm is not None and not (math.isfinite(design.gap_mm) and design.gap_mm >= 0):
-        problems.append(_problem(source, f"{prefix}gap_mm",
-                                 f"must be a finite length >= 0, got {design.gap_mm}"))
-    if core_row >= 0:
-        core = catalog.cores.iloc[core_row]
-        if design.stack > int(core["max_stack"]):
-            problems.append(_problem(
-                source, f"{prefix}stack",
-                f"core '{design.core}' stacks at most {int(core['max_stack'])} sets, "
-                f"got {design.stack}",
-            ))
-        if mat_row >= 0:
-            kind = str(catalog.materials.iloc[mat_row]["kind"])
-            ungappable = kind == "powder" or str(core["family"]) == "toroid"
-            for field, given in (("gap_mm", design.gap_mm), ("gap_kind", design.gap_kind)):
-                if ungappable and given:
-                    problems.append(_problem(
-                        source, f"{prefix}{field}",
-                        "a discrete gap is cut only in ferrite E and pot cores; "
-                        f"{design.material} on {design.core} takes none (leave it out)",
-                    ))
-    if problems:
-        raise InputError(problems)
 
 
 def evaluate_given(
@@ -207,15 +131,6 @@ def constraint_checks(space: model.DesignSpace, metrics: dict, i: int) -> tuple:
 
 def _limit(value: float, unit: str) -> str:
     return "none" if not math.isfinite(value) else f"{value:.4g} {unit}"
-
-
-def given_from_entry(entry) -> GivenDesign:
-    """A study's ``[[reference_designs]]`` entry as a `GivenDesign`."""
-    return GivenDesign(
-        core=entry.core, material=entry.material, turns=entry.turns, wire=entry.wire,
-        parallel=entry.parallel, stack=entry.stack, gap_mm=entry.gap_mm, name=entry.name,
-        gap_kind=entry.gap_kind,
-    )
 
 
 def reference_design_records(study, catalog) -> list[dict]:

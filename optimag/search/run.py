@@ -3,8 +3,6 @@ written by `optimag.runfolder`)."""
 
 from __future__ import annotations
 
-import difflib
-import re
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -22,6 +20,10 @@ from optimag.search.given import reference_design_records
 from optimag.search.hand import hand_sizing
 from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
 from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
+from optimag.study.catalog_check import (
+    check_study_against_catalog,
+    line_of,
+)
 
 DEFAULT_TOP = 20
 #: Search strategies `explore` runs.
@@ -51,50 +53,6 @@ class ExploreResult:
     @property
     def feasible(self) -> bool:
         return len(self.pareto) > 0
-
-
-def check_study_against_catalog(study, catalog) -> None:
-    """Ids named in the study's search filters must exist in the catalogue, and a study
-    that records the catalogue's content hash (``[catalog] sha256``, as a run folder's
-    copy does) needs the catalogue to still have it."""
-    problems = []
-    recorded = getattr(study.catalog, "sha256", None)
-    if recorded is not None and recorded != catalog.content_hash:
-        problems.append(Problem(
-            str(study.path), _line_of(study, "sha256"), "catalog.sha256",
-            f"the catalogue {catalog.folder} has changed since this study was run (content "
-            f"sha256 {catalog.content_hash[:12]}..., recorded {recorded[:12]}...); restore "
-            "it, or delete the sha256 line to search the catalogue as it is now",
-        ))
-    tables = {"cores": catalog.cores, "materials": catalog.materials, "wires": catalog.wires}
-    for key, table in tables.items():
-        wanted = getattr(study.search, key) or []
-        known = set(table["id"].astype(str))
-        for ident in wanted:
-            if ident not in known:
-                close = difflib.get_close_matches(ident, sorted(known), n=1)
-                hint = f"; did you mean '{close[0]}'?" if close else ""
-                problems.append(Problem(
-                    str(study.path), _line_of(study, key), f"search.{key}",
-                    f"'{ident}' is not in the catalogue {catalog.folder}{hint}",
-                ))
-    from optimag.search.given import check_given, given_from_entry
-
-    for index, entry in enumerate(getattr(study, "reference_designs", ()) or ()):
-        try:
-            check_given(study, catalog, given_from_entry(entry), str(study.path),
-                        f"reference_designs[{index}].")
-        except InputError as error:
-            problems.extend(error.problems)
-    if problems:
-        raise InputError(problems)
-
-
-def _line_of(study, key: str) -> int | None:
-    for number, line in enumerate(study.source_text.splitlines(), start=1):
-        if re.match(rf"\s*{re.escape(key)}\s*=", line):
-            return number
-    return None
 
 
 def explore(study, catalog=None, *, strategy: str | None = None, trials: int | None = None,
@@ -127,7 +85,7 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     check_study_against_catalog(study, catalog)
     strategy = strategy or study.search.strategy
     if strategy not in STRATEGIES:
-        raise InputError([Problem(str(study.path), _line_of(study, "strategy"),
+        raise InputError([Problem(str(study.path), line_of(study, "strategy"),
                                   "search.strategy",
                                   f"'{strategy}' is not one of {', '.join(STRATEGIES)}")])
     if strategy == "optuna":
@@ -192,7 +150,7 @@ def refuse_oversized(study, search_plan: SearchPlan) -> None:
     if search_plan.candidates > MAX_CANDIDATES:
         hours = search_plan.candidates / _ASSUMED_RATE / 3600
         problems.append(Problem(
-            str(study.path), _line_of(study, "turns_max"), "search",
+            str(study.path), line_of(study, "turns_max"), "search",
             f"the design space has {search_plan.candidates:,} candidates (about "
             f"{hours:,.1f} h at {_ASSUMED_RATE / 1e6:g} M/s), above the exhaustive search's "
             f"limit of {MAX_CANDIDATES:,}; {advice}",

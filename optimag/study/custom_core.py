@@ -68,7 +68,7 @@ class CustomCore(BaseModel):
     """``[custom_core]``: family, dimension ranges [mm], bobbin wall and price rule."""
 
     # The docstring under each field is its description in the study-file reference.
-    model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
+    model_config = ConfigDict(frozen=True, extra="forbid")
 
     family: Literal["E", "pot"]
     """Shape family of the custom core."""

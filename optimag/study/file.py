@@ -119,8 +119,9 @@ TIME_SHARE_TOLERANCE = 1e-6
 
 class _Section(BaseModel):
     # The docstring under each field is its description in the study-file reference
-    # (`optimag.study.reference`).
-    model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
+    # (`optimag.study.reference` reads it from the source; pydantic's own docstring reading
+    # would parse these sources at every start of the command).
+    model_config = ConfigDict(frozen=True, extra="forbid")
 
 
 class StudyInfo(_Section):

@@ -12,9 +12,14 @@ A test checks that the file is up to date and names every key.
 
 from __future__ import annotations
 
+import ast
+import functools
+import inspect
+import itertools
 import os
 import sys
 import tempfile
+import textwrap
 import types
 import typing
 from pathlib import Path
@@ -199,8 +204,39 @@ def toml_value(value: Any) -> str:
     return str(value)
 
 
+def attribute_docstrings(model: type[BaseModel]) -> dict[str, str]:
+    """The docstring written under each field of ``model`` (and of its bases), by field."""
+    docs: dict[str, str] = {}
+    for cls in reversed(model.__mro__):
+        if not (isinstance(cls, type) and issubclass(cls, BaseModel)) or cls is BaseModel:
+            continue
+        try:
+            tree = ast.parse(textwrap.dedent(inspect.getsource(cls)))
+        except (OSError, TypeError):
+            continue
+        body = tree.body[0].body if tree.body and isinstance(tree.body[0], ast.ClassDef) else []
+        for node, after in itertools.pairwise(body):
+            if (isinstance(node, ast.AnnAssign) and isinstance(node.target, ast.Name)
+                    and isinstance(after, ast.Expr) and isinstance(after.value, ast.Constant)
+                    and isinstance(after.value.value, str)):
+                docs[node.target.id] = inspect.cleandoc(after.value.value)
+    return docs
+
+
+@functools.cache
+def _describe_fields() -> None:
+    """Give every study-file key its docstring as its description (once)."""
+    for model in _SECTION_MODELS.values():
+        docs = attribute_docstrings(model)
+        for key, field in model.model_fields.items():
+            if not field.description and key in docs:
+                field.description = docs[key]
+
+
 def schema_keys() -> list[tuple[str, str, FieldInfo]]:
-    """(section, key, field) for every key of every study-file table, in schema order."""
+    """(section, key, field) for every key of every study-file table, in schema order,
+    each field's description its docstring."""
+    _describe_fields()
     return [
         (section, key, field)
         for section, model in _SECTION_MODELS.items()
@@ -227,6 +263,7 @@ def _section_doc(model: type[BaseModel]) -> str:
 
 def study_reference() -> str:
     """The study-file reference as Markdown."""
+    _describe_fields()
     lines = [
         "# Study-file reference",
         "",

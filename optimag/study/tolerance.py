@@ -82,7 +82,7 @@ class ToleranceSpec(BaseModel):
     """``[tolerance]``: production spreads, Monte Carlo size, seed and scope."""
 
     # The docstring under each field is its description in the study-file reference.
-    model_config = ConfigDict(frozen=True, extra="forbid", use_attribute_docstrings=True)
+    model_config = ConfigDict(frozen=True, extra="forbid")
 
     samples: Annotated[int, Strict(), Field(ge=100, le=100_000)] = 2000
     """Monte Carlo samples per design."""
