@@ -87,6 +87,7 @@ OBJECTIVE_COLUMNS = {
     "loss": "weighted_loss_W",
     "cost": "cost",
     "mass": "mass_g",
+    "lifetime_cost": "lifetime_cost",
 }
 
 FAMILY_CODES = {"E": 0, "pot": 1, "toroid": 2}
@@ -438,6 +439,9 @@ class Requirements:
     outside_fit: str
     labour_per_turn: float
     cooling: Cooling = Cooling()
+    #: [cost] energy price and hours in service (0 when the study sets none).
+    energy_price_per_kWh: float = 0.0
+    operating_hours: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -512,6 +516,8 @@ def build_design_space(study, catalog) -> DesignSpace:
         outside_fit=study.model.outside_fit,
         labour_per_turn=float(study.cost.labour_per_turn),
         cooling=Cooling.from_study(study.cooling),
+        energy_price_per_kWh=float(study.cost.energy_price_per_kWh or 0.0),
+        operating_hours=float(study.cost.operating_hours or 0.0),
     )
     waveforms = operating_waveforms(study)
     gap_grid = None
@@ -1370,6 +1376,7 @@ def combine_stage(
         c.price[core] * stack * m.price_factor[material] + wdg["copper_cost"]
     )
     temperature_span = req.max_temperature_C - req.ambient_C
+    energy = geometry.energy_cost(weighted_loss, req.operating_hours, req.energy_price_per_kWh)
     return {
         "temperature_C": temperature,
         "hotspot_temperature_C": hotspot,
@@ -1391,6 +1398,8 @@ def combine_stage(
         "volume_cm3": wdg["volume_m3"] * 1e6,
         "mass_g": mass * 1e3,
         "cost": cost,
+        "energy_cost": energy,
+        "lifetime_cost": cost + energy,
         "violation_temperature": np.where(
             any_runaway, 1.0, (worst_hot - req.max_temperature_C) / temperature_span
         ),

@@ -201,6 +201,12 @@ register(
     _f("cost", "currency", "Cost",
        "Core sets x stack x material price factor + copper + labour per turn", None,
        "design", 2),
+    _f("energy_cost", "currency", "Energy cost",
+       "Weighted loss x [cost] operating_hours x energy_price_per_kWh / 1000: what the "
+       "loss costs over the product's life (zero when the study sets no price or hours)",
+       None, "weighted", 2),
+    _f("lifetime_cost", "currency", "Lifetime cost",
+       "Part cost + energy cost over the product's life", None, "weighted", 2),
     # --- sizing by area product and geometry coefficient --------------------------
     _f("area_product_cm4", "cm⁴", "Area product Ap",
        "Window area times the stacked core's Ae (McLyman)"),
@@ -276,10 +282,10 @@ register(
 PARETO_COLUMNS = [
     "design_id", "core", "family", "material", "material_kind", "stack", "turns", "gap_mm",
     "wire", "wire_kind", "parallel", "volume_cm3", "weighted_loss_W", "cost", "mass_g",
-    "operating_point", "total_loss_W", "core_loss_W", "winding_dc_loss_W",
-    "winding_ac_loss_W", "winding_gap_loss_W", "temperature_C", "hotspot_temperature_C",
-    "peak_flux_T", "fill_factor", "inductance_uH", "inductance_at_peak_uH", "knee",
-    "yield_fraction", "model_flags",
+    "energy_cost", "lifetime_cost", "operating_point", "total_loss_W", "core_loss_W",
+    "winding_dc_loss_W", "winding_ac_loss_W", "winding_gap_loss_W", "temperature_C",
+    "hotspot_temperature_C", "peak_flux_T", "fill_factor", "inductance_uH",
+    "inductance_at_peak_uH", "knee", "yield_fraction", "model_flags",
 ]
 
 #: Text columns of pareto.csv (read back as strings).
@@ -300,7 +306,8 @@ SHORTLIST_COLUMNS = [
     "thermal_model", "cooling_mode", "thermal_in_range", "flux_swing_T", "dcm",
     "dc_resistance_20C_mOhm", "dc_resistance_mOhm", "winding_length_m",
     "lead_allowance_mm", "wire_length_m", "copper_mass_g", "box_length_mm", "box_width_mm",
-    "box_height_mm", "volume_cm3", "mass_g", "cost", "area_product_cm4",
+    "box_height_mm", "volume_cm3", "mass_g", "cost", "energy_cost", "lifetime_cost",
+    "area_product_cm4",
     "area_product_required_cm4", "geometry_coefficient_cm5",
     "geometry_coefficient_required_cm5", "yield_fraction", "yield_driver", "model_flags",
 ]
@@ -687,6 +694,8 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         "volume_cm3": float(metrics["volume_cm3"][i]),
         "mass_g": float(metrics["mass_g"][i]),
         "cost": float(metrics["cost"][i]),
+        "energy_cost": float(metrics["energy_cost"][i]),
+        "lifetime_cost": float(metrics["lifetime_cost"][i]),
         "area_product_cm4": float(details["area_product_m4"][i] * 1e8),
         "area_product_required_cm4": float(details["area_product_required_m4"][i] * 1e8),
         "geometry_coefficient_cm5": float(details["geometry_coefficient_m5"][i] * 1e10),

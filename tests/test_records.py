@@ -120,7 +120,8 @@ def test_exports_axes_and_headroom_read_one_peak_flux(run):
     loaded = data.load_run(folder)
     table = data.shortlist_table(loaded)
     parallel = figures.shortlist_parallel_figure(table, loaded.currency)
-    dims = {d.label: np.asarray(d.values, dtype=float) for d in parallel.data[0].dimensions}
+    dims = {d["label"]: np.asarray(d["values"], dtype=float)
+            for d in parallel["data"][0]["dimensions"]}
     axis = dims[data.PARALLEL_AXES["peak_flux_T"]]
     for position, design in enumerate(table["design_id"]):
         rec = by_id[design]

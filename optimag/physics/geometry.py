@@ -317,6 +317,42 @@ def core_mass(ve_m3: ArrayLike, density_kg_m3: ArrayLike, stack: ArrayLike) -> F
     return np.asarray(ve_m3) * np.asarray(density_kg_m3) * np.asarray(stack)
 
 
+def energy_cost(
+    weighted_loss_W: ArrayLike, operating_hours: ArrayLike, price_per_kWh: ArrayLike
+) -> FloatArray:
+    """Cost of the energy a part dissipates over its service life.
+
+    Parameters
+    ----------
+    weighted_loss_W : array_like
+        Loss averaged over the operating points by their time shares [W]
+    operating_hours : array_like
+        Hours in service over the product's life [h]
+    price_per_kWh : array_like
+        Price of one kilowatt-hour of energy [currency/kWh]
+
+    Returns
+    -------
+    cost : ndarray
+        Energy cost over the life [currency]
+
+    Notes
+    -----
+    .. math:: C_E = \\bar P \\, t \\, p / 1000
+
+    Energy is power times time (1 kWh = 1000 W x 3600 s = 3.6 MJ, the SI brochure's
+    table of non-SI units accepted for use with the SI). The loss's time-share weighting
+    already makes the mean power over the hours in service. Heat the rest of the product
+    must remove (fans, a larger heat sink) is not costed.
+
+    References
+    ----------
+    BIPM, The International System of Units (SI), 9th ed., 2019, table 8 (kilowatt-hour).
+    """
+    return (np.asarray(weighted_loss_W, dtype=float) * np.asarray(operating_hours, dtype=float)
+            * np.asarray(price_per_kWh, dtype=float) / 1000.0)
+
+
 def part_cost(
     core_set_price: ArrayLike,
     stack: ArrayLike,

@@ -43,7 +43,7 @@ OBJECTIVES: dict[str, tuple[str, str, str | None]] = {
 
 PARETO_TEXT_COLUMNS = records.PARETO_TEXT_COLUMNS
 #: Numeric pareto.csv columns that are empty for some designs (yield: analysed ones only).
-PARETO_OPTIONAL_COLUMNS = ("yield_fraction",)
+PARETO_OPTIONAL_COLUMNS = ("yield_fraction", "energy_cost", "lifetime_cost")
 PARETO_NUMBER_COLUMNS = tuple(
     c for c in records.PARETO_COLUMNS
     if c not in PARETO_TEXT_COLUMNS and c != "knee" and c not in PARETO_OPTIONAL_COLUMNS
@@ -267,6 +267,10 @@ def load_run(run_dir: Path | str) -> RunData:
             pareto_path, dtype=dict.fromkeys(PARETO_TEXT_COLUMNS, str), keep_default_na=False
         )
         files.restore_frame(pareto, PARETO_TEXT_COLUMNS)
+        # Runs written before the energy cost existed lack its columns: NaN there.
+        for name in ("energy_cost", "lifetime_cost"):
+            if name not in pareto.columns:
+                pareto[name] = float("nan")
         gone = [c for c in PARETO_COLUMNS if c not in pareto.columns]
         if gone:
             problems.append(_problem(pareto_path, "", f"missing columns: {', '.join(gone)}"))

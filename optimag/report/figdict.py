@@ -16,25 +16,19 @@ import pandas as pd
 #: A figure as plotly.js takes it: ``{"data": [...], "layout": {...}}``.
 Figure = dict[str, Any]
 
-#: Significant digits kept for the numbers a figure draws (far below a pixel).
-DIGITS = 7
-
-
 def trace(kind: str, **keys: Any) -> dict[str, Any]:
     """One trace as plotly.js takes it: its ``type`` and its keys."""
     return {"type": kind, **keys}
 
 
 def _number(value: float) -> float | None:
-    if not math.isfinite(value):
-        return None
-    return float(f"{value:.{DIGITS}g}")
+    return value if math.isfinite(value) else None
 
 
 def plain(value: Any) -> Any:
     """``value`` with numpy arrays, pandas Series and numpy scalars turned into lists,
-    floats and ints; non-finite numbers become None (JSON null: a gap to plotly.js);
-    floats keep `DIGITS` significant digits."""
+    floats and ints (full precision: a drawn value is the record's value); non-finite
+    numbers become None (JSON null: a gap to plotly.js)."""
     if isinstance(value, dict):
         return {str(key): plain(item) for key, item in value.items()}
     if isinstance(value, pd.Series | pd.Index):

@@ -261,6 +261,9 @@ def _assemble(study, catalog, space, objectives, outcome, top,
             for p in study.operating_points
         ],
         "currency": study.cost.currency,
+        # The price and hours behind energy_cost and lifetime_cost (None: not set).
+        "energy": {"energy_price_per_kWh": study.cost.energy_price_per_kWh,
+                   "operating_hours": study.cost.operating_hours},
         "near_misses": near_records,
         "diagnosis": diagnosis.record() if diagnosis is not None else None,
         "hand_sizing": hand_sizing(

@@ -48,6 +48,7 @@ from optimag.ranges import (
     CURRENT_A,
     CUSTOM_DIMENSION_MM,
     ENCLOSURE_VOLUME_CM3,
+    ENERGY_PRICE_PER_KWH,
     FOOTPRINT_MM2,
     FREQUENCY_KHZ,
     GAP_GRID_ENTRIES,
@@ -58,6 +59,7 @@ from optimag.ranges import (
     LOSS_W,
     MASS_G,
     MONEY,
+    OPERATING_HOURS,
     PARALLEL,
     POTTING_THICKNESS_MM,
     RIPPLE_FRACTION,
@@ -211,7 +213,7 @@ class Limits(_Section):
     """Largest allowed mass of core and copper; no limit when absent."""
 
 
-Objective = Literal["volume", "loss", "cost", "mass"]
+Objective = Literal["volume", "loss", "cost", "mass", "lifetime_cost"]
 
 
 class Search(_Section):
@@ -225,7 +227,9 @@ class Search(_Section):
         "loss",
         "cost",
     )
-    """Objectives minimised together, distinct, from volume, loss, cost, mass."""
+    """Objectives minimised together, distinct, from volume, loss, cost, mass and
+    lifetime_cost (part cost plus the energy its weighted loss costs over
+    [cost] operating_hours at [cost] energy_price_per_kWh; both keys required)."""
     turns_min: _whole(*TURNS) = 1
     """Fewest turns tried."""
     turns_max: _whole(*TURNS)
@@ -382,12 +386,21 @@ class Cooling(_Section):
 
 
 class Cost(_Section):
-    """``[cost]``: labour cost and the currency label used in reports."""
+    """``[cost]``: labour cost, the currency label used in reports, and the price and
+    hours that turn the weighted loss into an energy cost over the product's life."""
 
     labour_per_turn: Money = 0.02
     """Winding labour cost per turn, in the catalogue's currency units."""
     currency: Annotated[str, Strict(), StringConstraints(min_length=1, max_length=10)] = "cu"
     """Currency label shown beside costs."""
+    energy_price_per_kWh: _bounded(*ENERGY_PRICE_PER_KWH) | None = None
+    """Price of the energy the part's loss wastes, in currency units per kWh (what the
+    product's user pays for electricity, or the value of the energy a source such as a
+    panel or a battery could have delivered instead). With operating_hours it gives each
+    design's energy_cost and lifetime_cost; absent: both are reported as zero energy."""
+    operating_hours: _bounded(*OPERATING_HOURS) | None = None
+    """Hours the product runs over its life at the operating points' time shares (for
+    example 8 h a day for 10 years = 29,200 h)."""
 
 
 class ReferenceDesign(_Section):
@@ -926,6 +939,15 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
                     + ", ".join(f"'{o}'" for o in repeated),
                 )
             )
+        if "lifetime_cost" in search.objectives:
+            # A [cost] that failed its own checks is None; an absent one has no keys set.
+            cost = sections["cost"] if "cost" in sections else Cost()
+            for key in ("energy_price_per_kWh", "operating_hours"):
+                if cost is not None and getattr(cost, key) is None:
+                    faults.append((
+                        f"cost.{key}",
+                        "required when search.objectives includes lifetime_cost",
+                    ))
         if search.gap == "grid" and not search.gap_grid_mm:
             faults.append(
                 (

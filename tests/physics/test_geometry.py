@@ -90,3 +90,12 @@ def test_part_cost_hand_sum():
     assert g.part_cost(0.50, 2, 1.2, 0.02, 15.0, 30, 0.01) == pytest.approx(1.80)
     costs = g.part_cost(0.50, np.array([1, 2]), 1.2, 0.02, 15.0, np.array([30, 0]), 0.01)
     np.testing.assert_allclose(costs, [1.20, 1.50])
+
+
+def test_energy_cost_hand_calculation():
+    # 1.5 W for 20,000 h is 30 kWh (energy = power x time; 1 kWh = 3.6 MJ, BIPM SI
+    # brochure, 9th ed., table 8); at 0.25 per kWh that is 7.50.
+    assert g.energy_cost(1.5, 20_000.0, 0.25) == pytest.approx(7.50)
+    # Same in joules: 1.5 W x 20,000 h x 3600 s/h = 108 MJ = 30 kWh.
+    assert g.energy_cost(1.5, 20_000.0, 1.0) == pytest.approx(1.5 * 20_000 * 3600 / 3.6e6)
+    np.testing.assert_allclose(g.energy_cost(np.array([0.0, 2.0]), 1000.0, 0.3), [0.0, 0.6])
