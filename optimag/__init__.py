@@ -28,7 +28,7 @@ def load_catalog(folder):
 
 def explore(study, *, strategy=None, trials=None, seed=None, storage=None, top: int = 20,
             catalog=None, progress=None, re_evaluate: bool = False, force: bool = False,
-            announce=None):
+            announce=None, workers: int | None = None, scheduler: str | None = None):
     """Run what the study asks: its ``[search] strategy`` (or ``strategy``), exhaustive or
     optuna, with ``[custom_core]`` searched by optuna. ``study`` is a Study or a path.
 
@@ -36,14 +36,16 @@ def explore(study, *, strategy=None, trials=None, seed=None, storage=None, top: 
     optuna; ``re_evaluate`` re-scores the trials of a storage started under a different
     study, catalogue or optimag version (which is refused otherwise). An exhaustive search
     passes its candidate count and estimated peak memory to ``announce`` and refuses a
-    space above the size or memory limit unless ``force``. Returns an `ExploreResult`; see
+    space above the size or memory limit unless ``force``. It runs on ``workers`` processes
+    of this machine (default: every core for a large space) or on the Dask cluster at
+    ``scheduler``, with the same front and counts. Returns an `ExploreResult`; see
     `optimag.search.run.explore`.
     """
     from optimag.search.run import explore as _explore
 
     return _explore(study, catalog, strategy=strategy, trials=trials, seed=seed,
                     storage=storage, top=top, progress=progress, re_evaluate=re_evaluate,
-                    force=force, announce=announce)
+                    force=force, announce=announce, workers=workers, scheduler=scheduler)
 
 
 def write_run(result, folder=None, *, overwrite: bool = False):

@@ -11,7 +11,7 @@ import tomllib
 from pathlib import Path
 
 from optimag import __version__
-from optimag.errors import InputError, Problem, RunFolderError, StorageError
+from optimag.errors import ClusterError, InputError, Problem, RunFolderError, StorageError
 from optimag.ranges import BATCH, SEED, TRIALS
 
 #: Shown under `optimag --help`.
@@ -228,6 +228,7 @@ def _explore(args) -> int:
                 seed=args.seed, storage=storage, top=args.top, progress=report,
                 re_evaluate=args.re_evaluate, force=args.force,
                 announce=print,  # the space's size and estimated memory, on stdout
+                workers=args.workers, scheduler=args.scheduler,
             )
         try:
             run_dir = optimag.write_run(result, out_dir, overwrite=args.overwrite)
@@ -504,6 +505,12 @@ def build_parser() -> argparse.ArgumentParser:
     explore.add_argument("--trials", type=_trials, help="optuna: number of trials")
     explore.add_argument("--seed", type=_seed, help=f"optuna: sampler seed, 0 to {SEED[1]}")
     explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")
+    explore.add_argument("--workers", type=_positive_int,
+                         help="exhaustive: worker processes on this machine (default: every "
+                              "core for a large space, else 1)")
+    explore.add_argument("--scheduler", metavar="ADDRESS",
+                         help="exhaustive: run on the Dask cluster whose scheduler is at "
+                              "ADDRESS (e.g. tcp://192.0.2.10:8786)")
     worker = commands.add_parser(
         "worker", help="add trials to an optuna study kept in a shared storage")
     worker.add_argument("--storage", required=True, help="SQLAlchemy URL of the storage")
@@ -584,7 +591,7 @@ def main(argv: list[str] | None = None) -> int:
     except InputError as error:
         _print_problems(error.problems)
         return EXIT_REFUSED
-    except (RunFolderError, StorageError) as error:
+    except (RunFolderError, StorageError, ClusterError) as error:
         print(f"optimag: {error}", file=sys.stderr)
         return EXIT_REFUSED
     except KeyboardInterrupt:

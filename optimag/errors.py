@@ -76,3 +76,8 @@ class RunFolderError(Exception):
 class StorageError(Exception):
     """An optuna storage cannot be used (unknown scheme, unreachable server, read-only
     location, missing database); the one-line message never shows a password."""
+
+
+class ClusterError(Exception):
+    """A Dask cluster cannot be used (scheduler unreachable, no worker); the one-line
+    message says what to start."""

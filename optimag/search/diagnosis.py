@@ -135,6 +135,16 @@ def diagnose_rows(core: np.ndarray, violations: np.ndarray,
     return counts, near
 
 
+@dataclass
+class DiagnosisPart:
+    """What the diagnosis of a range of groups leaves; parts of disjoint ranges merge
+    exactly, in group order (`merge_diagnosis_parts`)."""
+
+    alone: np.ndarray
+    near: NearestPerCore
+    fallback: NearestPerCore
+
+
 def diagnose_exhaustive(
     space: model.DesignSpace,
     search_plan: ex.SearchPlan | None = None,
@@ -147,9 +157,45 @@ def diagnose_exhaustive(
     Nearest misses are ranked among the candidates evaluated in full: those with at most
     one violation among the magnetic and winding constraints (a candidate with two is never
     taken to the thermal stage). If none is, the least-violating magnetic rows are paired
-    with every winding and evaluated.
+    with every winding and evaluated. `optimag.search.parallel` spreads the same walk over
+    a Dask cluster.
     """
     walk = search_plan or ex.plan(space)
+    part = diagnose_groups(space, walk, 0, ex.group_count(space), keep)
+    return finish_diagnosis(space, part, walk, keep)
+
+
+def merge_diagnosis_parts(parts: list[DiagnosisPart],
+                          keep: int = NEAR_MISS_CORES) -> DiagnosisPart:
+    """One part from parts of disjoint group ranges given in group order: counts added,
+    nearest misses offered in order (exact under streaming, `NearestPerCore`)."""
+    merged = DiagnosisPart(np.zeros(len(model.CONSTRAINTS), dtype=np.int64),
+                           NearestPerCore(keep), NearestPerCore(keep))
+    for part in parts:
+        merged.alone += part.alone
+        for mine, theirs in ((merged.near, part.near), (merged.fallback, part.fallback)):
+            if theirs.candidates is not None:
+                mine.offer(theirs.candidates, theirs.violation)
+    return merged
+
+
+def finish_diagnosis(space: model.DesignSpace, part: DiagnosisPart, walk: ex.SearchPlan,
+                     keep: int = NEAR_MISS_CORES) -> Diagnosis:
+    """The diagnosis of the whole space from its merged part."""
+    near_cands, near_viol = part.near.result()
+    if near_cands is None:
+        near_cands, near_viol = _fallback_per_core(space, part.fallback, keep)
+    return Diagnosis(
+        fails_alone=dict(zip(model.CONSTRAINTS, part.alone.tolist(), strict=True)),
+        near_misses=near_cands, near_miss_violation=near_viol,
+        scope="every candidate of the space", candidates=walk.candidates,
+    )
+
+
+def diagnose_groups(space: model.DesignSpace, walk: ex.SearchPlan, first_group: int,
+                    stop_group: int, keep: int = NEAR_MISS_CORES) -> DiagnosisPart:
+    """The diagnosis of groups ``first_group`` to ``stop_group - 1`` (see
+    `exhaustive.group_count`), in the blocks and chunks of ``walk``."""
     chunk = walk.chunk
     alone = np.zeros(len(model.CONSTRAINTS), dtype=np.int64)
     near = NearestPerCore(keep)
@@ -161,8 +207,8 @@ def diagnose_exhaustive(
     groups = ex._Groups(space)
     rows_per_group = max(1, len(space.materials.ids) * space.n_gap_options)
     groups_per_block = max(1, walk.magnetic_block // rows_per_group)
-    for first in range(0, groups.count, groups_per_block):
-        stop = min(first + groups_per_block, groups.count)
+    for first in range(first_group, stop_group, groups_per_block):
+        stop = min(first + groups_per_block, stop_group)
         mag = ex._magnetic_rows(space, *groups.decode(first, stop))
         mag_out = model.magnetic_stage(space, mag["core"], mag["stack"], mag["material"],
                                        mag["turns"], mag["gap_option"])
@@ -185,14 +231,7 @@ def diagnose_exhaustive(
                     alone += alone_counts(violations)
                     bad = np.flatnonzero((violations > 0).any(axis=1))
                     near.offer(candidates.take(bad), violations[bad].max(axis=1))
-    near_cands, near_viol = near.result()
-    if near_cands is None:
-        near_cands, near_viol = _fallback_per_core(space, fallback, keep)
-    return Diagnosis(
-        fails_alone=dict(zip(model.CONSTRAINTS, alone.tolist(), strict=True)),
-        near_misses=near_cands, near_miss_violation=near_viol,
-        scope="every candidate of the space", candidates=walk.candidates,
-    )
+    return DiagnosisPart(alone, near, fallback)
 
 
 def _batch_rows(space, mag, mag_out, mag_viol, mag_bad, live, groups, group_start,

@@ -238,18 +238,60 @@ def magnetic_grid(space: model.DesignSpace) -> dict[str, np.ndarray]:
     return rows
 
 
+def _options_per_core(space: model.DesignSpace) -> np.ndarray:
+    """(material, gap option) rows of one (core, stack, turns) group, per core."""
+    ferrite = int(np.count_nonzero(space.materials.kind == 0))
+    others = len(space.materials.ids) - ferrite
+    gappable = space.cores.family != model.FAMILY_CODES["toroid"]
+    return np.where(gappable, ferrite * space.n_gap_options + others,
+                    len(space.materials.ids)).astype(np.int64)
+
+
 def space_size(space: model.DesignSpace) -> int:
     """Number of candidates in the design space (what `explore_exhaustive` covers), counted
     without building the grid (exact, in Python integers)."""
     groups = _Groups(space)
-    ferrite = int(np.count_nonzero(space.materials.kind == 0))
-    others = len(space.materials.ids) - ferrite
-    gappable = space.cores.family != model.FAMILY_CODES["toroid"]
-    options = np.where(gappable, ferrite * space.n_gap_options + others,
-                       len(space.materials.ids)).astype(np.int64)
+    options = _options_per_core(space)
     magnetic = sum(int(n) * int(o) for n, o in zip(groups.stacks_per_core.tolist(),
                                                    options.tolist(), strict=True))
     return magnetic * groups.n_turns * len(space.wires.ids) * len(space.parallels)
+
+
+def core_stack_units(space: model.DesignSpace) -> tuple[np.ndarray, np.ndarray]:
+    """The (core, stack) units of the space in walking order: the first group of each
+    unit, then the end (length units + 1), and the candidates of each unit (every turns
+    count of the unit's core and stack, with every material, gap option and winding)."""
+    groups = _Groups(space)
+    stacks = groups.stacks_per_core
+    unit_core = np.repeat(np.arange(len(stacks)), stacks)
+    within = np.arange(len(unit_core)) - np.repeat(np.cumsum(stacks) - stacks, stacks)
+    first = groups.start[unit_core] + within * groups.n_turns
+    bounds = np.append(first, groups.count).astype(np.int64)
+    windings = len(space.wires.ids) * len(space.parallels)
+    candidates = _options_per_core(space)[unit_core] * groups.n_turns * windings
+    return bounds, candidates.astype(np.int64)
+
+
+@dataclass
+class SearchPart:
+    """What a walk over a range of (core, stack, turns) groups leaves: its front, counts
+    and closest misses. Parts of disjoint ranges merge exactly (`merge_parts`), in group
+    order, into what one walk over their union leaves."""
+
+    front: RunningFront
+    nominal_front: RunningFront | None
+    eliminated: dict[str, int]
+    feasible: int
+    done: int
+    near: _NearMisses
+    near_magnetic: _MagneticNearMisses
+    stage_sizes: dict[str, int]
+    interrupted: bool = False
+
+
+def group_count(space: model.DesignSpace) -> int:
+    """Number of (core, stack, turns) groups of ``space`` (what `search_groups` walks)."""
+    return _Groups(space).count
 
 
 def explore_exhaustive(
@@ -271,10 +313,28 @@ def explore_exhaustive(
     ``search_plan`` (default `plan(space, chunk_size)`) sizes the blocks and chunks.
     ``progress(done, total)`` is called after each chunk with candidate counts. A
     KeyboardInterrupt stops the pass cleanly: the outcome then holds what was found so far
-    and ``interrupted`` is set.
+    and ``interrupted`` is set. `optimag.search.parallel` runs the same walk on many
+    processes or machines.
     """
     start = time.perf_counter()
     walk = search_plan or plan(space, chunk_size)
+    part = search_groups(space, objectives, walk, 0, group_count(space), robust=robust,
+                         progress=progress)
+    return finish_search(space, part, walk.candidates, time.perf_counter() - start)
+
+
+def search_groups(
+    space: model.DesignSpace,
+    objectives: list[str],
+    walk: SearchPlan,
+    first_group: int,
+    stop_group: int,
+    robust: ToleranceSpec | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> SearchPart:
+    """Walk groups ``first_group`` to ``stop_group - 1`` (see `group_count`) in the blocks
+    and chunks of ``walk``: the part of `explore_exhaustive` that covers them.
+    ``progress(done, total)`` counts this range's candidates against the whole space's."""
     chunk = walk.chunk
     eliminated = dict.fromkeys(model.CONSTRAINTS, 0)
     front = RunningFront(len(objectives))
@@ -301,8 +361,8 @@ def explore_exhaustive(
     feasible = 0
     stage_sizes = {"magnetic": 0}
     try:
-        for first in range(0, groups.count, groups_per_block):
-            stop = min(first + groups_per_block, groups.count)
+        for first in range(first_group, stop_group, groups_per_block):
+            stop = min(first + groups_per_block, stop_group)
             mag = _magnetic_rows(space, *groups.decode(first, stop))
             # Stage 1: magnetic rows of this block of groups.
             mag_out = model.magnetic_stage(
@@ -327,14 +387,14 @@ def explore_exhaustive(
             if not mag_pass.size:
                 continue
             # Rows are group-major, so the survivors are sorted by group already.
-            block_groups, group_start, group_count = np.unique(
+            block_groups, group_start, survivors_per_group = np.unique(
                 mag["group"][mag_pass], return_index=True, return_counts=True
             )
-            for batch in _batches_of_groups(group_count, slice_windings, chunk):
+            for batch in _batches_of_groups(survivors_per_group, slice_windings, chunk):
                 for wires in wire_slices:
                     for candidates, metrics, n_processed in _process_group_batch(
                         space, mag, mag_out, mag_pass, block_groups[batch],
-                        group_start[batch], group_count[batch], wires, eliminated, chunk,
+                        group_start[batch], survivors_per_group[batch], wires, eliminated, chunk,
                         stage_sizes,
                     ):
                         done += n_processed
@@ -354,25 +414,65 @@ def explore_exhaustive(
                             progress(done, total)
     except KeyboardInterrupt:
         interrupted = True
+    return SearchPart(
+        front=front, nominal_front=nominal_front, eliminated=eliminated, feasible=feasible,
+        done=done, near=near, near_magnetic=near_magnetic, stage_sizes=stage_sizes,
+        interrupted=interrupted,
+    )
 
+
+def merge_parts(parts: list[SearchPart], n_objectives: int) -> SearchPart:
+    """One part from parts of disjoint group ranges, given in group order: fronts merged
+    exactly (a point dominated over the union is dominated by a member of some part's
+    front), counts added, closest misses kept as one walk keeps them."""
+    front = RunningFront(n_objectives)
+    robust = any(p.nominal_front is not None for p in parts)
+    nominal_front = RunningFront(n_objectives) if robust else None
+    eliminated: dict[str, int] = {}
+    stage_sizes: dict[str, int] = {}
+    near, near_magnetic = _NearMisses(), _MagneticNearMisses()
+    for part in parts:
+        front.offer(part.front.objectives, part.front.payload)
+        if nominal_front is not None and part.nominal_front is not None:
+            nominal_front.offer(part.nominal_front.objectives, part.nominal_front.payload)
+        for counts, into in ((part.eliminated, eliminated), (part.stage_sizes, stage_sizes)):
+            for name, count in counts.items():
+                into[name] = into.get(name, 0) + count
+        near.merge(part.near)
+        near_magnetic.merge(part.near_magnetic)
+    if not parts:
+        eliminated = dict.fromkeys(model.CONSTRAINTS, 0)
+    return SearchPart(
+        front=front, nominal_front=nominal_front, eliminated=eliminated,
+        feasible=sum(p.feasible for p in parts), done=sum(p.done for p in parts), near=near,
+        near_magnetic=near_magnetic, stage_sizes=stage_sizes,
+        interrupted=any(p.interrupted for p in parts),
+    )
+
+
+def finish_search(space: model.DesignSpace, part: SearchPart, total: int,
+                  wall_time_s: float, interrupted: bool = False) -> ExhaustiveOutcome:
+    """The outcome of a search whose parts (merged into ``part``) cover the space of
+    ``total`` candidates, or stopped early (``interrupted``, or a part interrupted)."""
+    interrupted = interrupted or part.interrupted
     if not interrupted:
-        counted = feasible + sum(eliminated.values())
+        counted = part.feasible + sum(part.eliminated.values())
         if counted != total:
             raise AssertionError(f"candidate accounting is off: {counted} != {total}")
-    near_cands, near_viol = near.result()
-    if near_cands is None and not interrupted and feasible == 0:
-        near_cands, near_viol = _near_misses_from_magnetic(space, near_magnetic)
+    near_cands, near_viol = part.near.result()
+    if near_cands is None and not interrupted and part.feasible == 0:
+        near_cands, near_viol = _near_misses_from_magnetic(space, part.near_magnetic)
     return ExhaustiveOutcome(
-        front=front,
+        front=part.front,
         total=total,
-        feasible=feasible,
-        eliminated=eliminated,
+        feasible=part.feasible,
+        eliminated=part.eliminated,
         near_misses=near_cands,
         near_miss_violation=near_viol,
-        wall_time_s=time.perf_counter() - start,
+        wall_time_s=wall_time_s,
         interrupted=interrupted,
-        stage_sizes=stage_sizes,
-        nominal_front=nominal_front,
+        stage_sizes=part.stage_sizes,
+        nominal_front=part.nominal_front,
     )
 
 
@@ -544,6 +644,21 @@ class _NearMisses:
         keep = np.argsort(merged_v, kind="stable")[:NEAR_MISS_COUNT]
         self.candidates, self.violation = merged.take(keep), merged_v[keep]
 
+    def merge(self, other: _NearMisses) -> None:
+        """Take in the misses another walk kept over later groups (same ranking)."""
+        if other.candidates is None:
+            return
+        if self.candidates is None:
+            self.candidates, self.violation = other.candidates, other.violation
+            return
+        merged = model.Candidates(**{
+            f: np.concatenate([getattr(self.candidates, f), getattr(other.candidates, f)])
+            for f in CANDIDATE_FIELDS
+        })
+        merged_v = np.concatenate([self.violation, other.violation])
+        keep = np.argsort(merged_v, kind="stable")[:NEAR_MISS_COUNT]
+        self.candidates, self.violation = merged.take(keep), merged_v[keep]
+
     def result(self):
         return self.candidates, self.violation
 
@@ -567,6 +682,19 @@ class _MagneticNearMisses:
         else:
             merged = {f: np.concatenate([self.rows[f], new[f]]) for f in fields}
             merged_w = np.concatenate([self.worst, worst[picked]])
+        keep = np.argsort(merged_w, kind="stable")[: self.KEEP]
+        self.rows = {f: v[keep] for f, v in merged.items()}
+        self.worst = merged_w[keep]
+
+    def merge(self, other: _MagneticNearMisses) -> None:
+        """Take in the rows another walk kept over later groups (same ranking)."""
+        if other.rows is None:
+            return
+        if self.rows is None:
+            self.rows, self.worst = other.rows, other.worst
+            return
+        merged = {f: np.concatenate([self.rows[f], other.rows[f]]) for f in self.rows}
+        merged_w = np.concatenate([self.worst, other.worst])
         keep = np.argsort(merged_w, kind="stable")[: self.KEEP]
         self.rows = {f: v[keep] for f, v in merged.items()}
         self.worst = merged_w[keep]

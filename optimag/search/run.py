@@ -14,6 +14,7 @@ import pandas as pd
 from optimag import __version__, model, records, tolerance
 from optimag.errors import InputError, Problem
 from optimag.ranges import MAX_CANDIDATES, MEMORY_BUDGET_BYTES
+from optimag.search import parallel
 from optimag.search.exhaustive import CANDIDATE_FIELDS, SearchPlan, explore_exhaustive, plan
 from optimag.search.fingerprint import study_fingerprint
 from optimag.search.given import reference_design_records
@@ -59,7 +60,8 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
             seed: int | None = None, storage: str | None = None, top: int = DEFAULT_TOP,
             progress=None, chunk_size: int | None = None,
             re_evaluate: bool = False, force: bool = False,
-            announce: Callable[[str], None] | None = None) -> ExploreResult:
+            announce: Callable[[str], None] | None = None, workers: int | None = None,
+            scheduler: str | None = None) -> ExploreResult:
     """Run what the study asks and build the front, short-list and run record.
 
     ``study`` is a loaded Study or a path to a study file; ``catalog`` defaults to the
@@ -74,6 +76,11 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     to ``announce`` (one line of text); a space above `optimag.ranges.MAX_CANDIDATES`
     candidates or `optimag.ranges.MEMORY_BUDGET_BYTES` of estimated memory raises
     InputError unless ``force``.
+
+    The exhaustive search runs on ``workers`` processes of this machine (default: every
+    core when the space has at least `parallel.PARALLEL_MIN_CANDIDATES` candidates, else
+    this process alone), or on the running Dask cluster at ``scheduler``
+    (`optimag.search.parallel`); the front and counts are the same.
     """
     from optimag.catalog import load_catalog
     from optimag.study import load_study
@@ -101,12 +108,25 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     if not force:
         refuse_oversized(study, search_plan)
     robust = {"robust": study.tolerance} if study.search.robust else {}
-    outcome = explore_exhaustive(space, objectives, progress=progress, search_plan=search_plan,
-                                 **robust)
-    diagnosis = None
-    if outcome.feasible == 0 and not outcome.interrupted and outcome.total:
+    n_workers = workers if workers is not None else parallel.default_workers(
+        search_plan.candidates)
+    if scheduler or n_workers > 1:
+        if announce is not None:
+            announce(f"searching on the Dask cluster at {scheduler}" if scheduler else
+                     f"searching on {n_workers} worker processes")
+        with parallel.cluster(n_workers, scheduler) as client:
+            outcome = parallel.explore_on_cluster(space, objectives, client,
+                                                  search_plan=search_plan,
+                                                  progress=progress, **robust)
+            diagnosis = _diagnose(space, search_plan, outcome, announce, client)
+        where = {"scheduler": scheduler} if scheduler else {"workers": n_workers}
+    else:
+        outcome = explore_exhaustive(space, objectives, progress=progress,
+                                     search_plan=search_plan, **robust)
         diagnosis = _diagnose(space, search_plan, outcome, announce)
+        where = {"workers": 1}
     result = _assemble(study, catalog, space, objectives, outcome, top, diagnosis=diagnosis)
+    result.record["parallel"] = where
     if getattr(study, "custom_core", None) is not None:
         result.record.setdefault("notes", []).append(
             "[custom_core] is searched by the optuna strategy only; this exhaustive run "
@@ -114,17 +134,23 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     return result
 
 
-def _diagnose(space, search_plan, outcome, announce):
+def _diagnose(space, search_plan, outcome, announce, client=None):
     """The diagnosis of an infeasible exhaustive run (its nearest misses replace the
-    search's); None when interrupted."""
+    search's), on the Dask ``client``'s cluster when given; None when the run found a
+    feasible design or was interrupted."""
     from optimag.search.diagnosis import diagnose_exhaustive
 
+    if outcome.feasible or outcome.interrupted or not outcome.total:
+        return None
     if announce is not None:
         announce("no candidate meets every constraint; counting what each constraint rules "
                  "out on its own")
     start = time.perf_counter()
     try:
-        diagnosis = diagnose_exhaustive(space, search_plan)
+        if client is not None:
+            diagnosis = parallel.diagnose_on_cluster(space, client, search_plan)
+        else:
+            diagnosis = diagnose_exhaustive(space, search_plan)
     except KeyboardInterrupt:
         return None
     diagnosis.wall_time_s = time.perf_counter() - start
