@@ -22,11 +22,17 @@ from typing import Any
 import pandas as pd
 
 from optimag import files, records
-from optimag.report import data, figures, style, yields
+from optimag.report import choose, data, figures, style, yields
 from optimag.report.figdict import Figure
 
-#: The page's own script (lazy figures), shipped beside this module.
+#: The page's own script (lazy figures, opening sheets, comparison, lifetime cost),
+#: shipped beside this module.
 PAGE_SCRIPT = Path(__file__).with_name("page.js")
+
+
+def page_script() -> str:
+    """The page's script as embedded: the CSV cell rule of the exports, then page.js."""
+    return files.NEUTRALISE_JS + "\n" + PAGE_SCRIPT.read_text(encoding="utf-8")
 
 REPORT_NAME = "report.html"
 
@@ -96,12 +102,13 @@ class _FigureSlots:
             return ""
         from plotly.offline import get_plotlyjs
 
-        store = {"config": style.PLOTLY_CONFIG, "figures": self.figures}
+        store = {"config": style.PLOTLY_CONFIG, "figures": self.figures,
+                 "loss_colours": list(style.LOSS_COLOURS.values())}
         return (
             '<script type="application/json" id="optimag-figures">'
             f"{json_for_script(store)}</script>"
             f"<script>{get_plotlyjs()}</script>"
-            f"<script>{PAGE_SCRIPT.read_text(encoding='utf-8')}</script>"
+            f"<script>{page_script()}</script>"
         )
 
 
@@ -382,12 +389,70 @@ def _shortlist(run: data.RunData, slots: _FigureSlots) -> str:
     )
     body = _card("Parallel axes", figure) + _card(
         "Ranked list", listing, "Click a row, or a line on the parallel axes, to open that "
-        "design's build sheet.", spaced=True)
+        "design's build sheet.", spaced=True) + _compare_card() + _lifetime_card(run)
     lede = (
         "The short-listed designs on shared axes: follow a line to see what each design "
         "trades. The knee design is drawn in ochre; drag along an axis to filter."
     )
     return _section(2, "shortlist", "Short-list side by side", lede, body)
+
+
+def _compare_card() -> str:
+    """Controls of the side-by-side comparison; the page's script fills it."""
+    controls = (
+        '<div class="controls"><label>Design <select id="compare-pick"></select></label>'
+        '<button type="button" id="compare-add">Add</button>'
+        '<button type="button" id="compare-clear">Clear</button>'
+        '<button type="button" id="compare-csv">Export CSV</button></div>'
+        '<div id="compare-chips"></div><div id="compare-table"></div>'
+        '<div id="compare-charts" class="grid"></div>'
+    )
+    return (
+        f'<div class="card" id="compare" style="margin-top:14px"><h3>Compare two to four '
+        f"designs</h3>{controls}"
+        '<p class="note">Any front or reference design: add it here or with Compare on its '
+        "build sheet. Cells that differ are tinted, the best of a figure that has a better "
+        "direction is bold; one loss chart per operating point. The CSV holds the table "
+        "as shown, cells that a spreadsheet could read as a formula prefixed with '.</p>"
+        "</div>"
+    )
+
+
+def _lifetime_card(run: data.RunData) -> str:
+    """Energy price slider and hours: the front ranked by part cost + energy cost."""
+    energy = run.meta.get("energy") or {}
+    price = energy.get("energy_price_per_kWh")
+    hours = energy.get("operating_hours")
+    top = max(1.0, 3.0 * float(price or 0.0))
+    start_price = float(price if price is not None else 0.25)
+    start_hours = float(hours if hours is not None else 20000)
+    assumed = []
+    if price is None:
+        assumed.append("the study sets no [cost] energy_price_per_kWh: the slider starts at 0.25")
+    if hours is None:
+        assumed.append("it sets no operating_hours: 20,000 h assumed until you type the "
+                       "product's own")
+    currency = run.currency or "currency"
+    controls = (
+        f'<div class="controls"><label>Energy price <input type="range" id="energy-price" '
+        f'min="0" max="{top:g}" step="0.005" value="{start_price:g}">'
+        '</label><output id="energy-price-shown"></output>'
+        '<label>Hours in service <input type="number" id="operating-hours" min="0" '
+        f'max="1000000" step="100" value="{start_hours:g}">'
+        "</label></div>"
+        '<div id="lifetime-table"></div>'
+    )
+    note = (
+        "Lifetime cost = part cost + weighted loss × hours × price / 1000, in "
+        f"{escape(currency)}. The cheapest front design over the product's life is marked; "
+        "click a row for its build sheet."
+    )
+    if assumed:
+        note += " Note: " + escape("; ".join(assumed)) + "."
+    return (
+        '<div class="card" id="lifetime" style="margin-top:14px"><h3>Cost over the '
+        f"product's life</h3>{controls}<p class=\"note\">{note}</p></div>"
+    )
 
 
 def _field_check_panel(check: dict[str, Any], slots: _FigureSlots) -> str:
@@ -467,6 +532,8 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots,
         )
 
     knee = bool(record.get("knee"))
+    compare = (f'<button type="button" class="compare-add" '
+               f'data-design="{escape(record["design_id"])}">Compare</button>')
     if record.get("rank") is not None:
         badges = f'<span class="badge">rank {int(record["rank"])}</span>'
     elif "violated" in record:
@@ -496,7 +563,7 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots,
         f'id="design-{escape(record["design_id"])}" '
         f'data-design="{escape(record["design_id"])}">'
         f"<header><h3>{escape(record['design_id'])} — {escape(record['core'])}, "
-        f"{escape(record['material'])}</h3>{badges}"
+        f"{escape(record['material'])}</h3>{badges}{compare}"
         f'<span class="note">{escape(summary)}</span></header>'
         f"{layout}</article>"
     )
@@ -697,9 +764,27 @@ td.share .bar { position: absolute; left: 0; bottom: 2px; height: 3px;
 code { font-family: inherit; color: var(--teal); }
 .stack { display: flex; flex-direction: column; gap: 14px; min-width: 0; }
 tr.pick { cursor: pointer; }
+.controls { display: flex; flex-wrap: wrap; gap: 10px 18px; align-items: center;
+  margin: 6px 0 10px; }
+.controls input[type=range] { width: 220px; vertical-align: middle; }
+.controls input[type=number] { width: 110px; }
+button.chip, button.compare-add { font: inherit; font-size: 12px; margin: 0 6px 6px 0;
+  padding: 2px 10px; border: 1px solid var(--sand); border-radius: 12px;
+  background: var(--panel); cursor: pointer; }
+table.compare td.differs { background: rgba(201, 146, 43, 0.10); }
+table.compare td.best { font-weight: 700; }
+tr.cheapest td { font-weight: 700; }
 tr.pick:hover td { background: rgba(201, 146, 43, 0.12); }
 article.sheet.opened { outline: 2px solid var(--ochre); outline-offset: 4px; }
 """
+
+
+def _designs_block(run: data.RunData, front: Any) -> str:
+    """Compact rows of every front and reference design, for choosing in the page."""
+    if front.empty:
+        return ""
+    return ('<script type="application/json" id="optimag-designs">'
+            f"{json_for_script(choose.design_rows(run))}</script>")
 
 
 def render_report(run: data.RunData) -> str:
@@ -723,6 +808,7 @@ def render_report(run: data.RunData) -> str:
         "</main>",
         '<script type="application/json" id="optimag-run-summary">'
         f"{json_for_script(_summary_json(run, front))}</script>",
+        _designs_block(run, front),
         slots.scripts(),
     ]
     return (

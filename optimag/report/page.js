@@ -15,6 +15,7 @@
   }
 
   var store = readJson("optimag-figures") || { config: {}, figures: [] };
+  var LOSS_COLOURS = store.loss_colours || [];
   var config = store.config;
   var pending = 0;
 
@@ -155,13 +156,301 @@
     }
   });
 
+  /* ---- small DOM helpers (text only: user strings never become markup) --------- */
+
+  function element(tag, text, className) {
+    var node = document.createElement(tag);
+    if (text !== undefined && text !== null) {
+      node.textContent = String(text);
+    }
+    if (className) {
+      node.className = className;
+    }
+    return node;
+  }
+
+  function clear(node) {
+    while (node.firstChild) {
+      node.removeChild(node.firstChild);
+    }
+  }
+
+  function format(value, digits) {
+    if (value === null || value === undefined || !isFinite(value)) {
+      return "—";
+    }
+    return Number(value).toFixed(digits);
+  }
+
+  var designs = readJson("optimag-designs");
+  var byId = {};
+  if (designs) {
+    designs.designs.forEach(function (row) { byId[row.id] = row; });
+  }
+  function field(row, name) {
+    return row.values[designs.fields.indexOf(name)];
+  }
+
+  /* ---- side by side ----------------------------------------------------------- */
+
+  var picked = [];
+  var MAX_PICKED = 4;
+
+  function comparisonRows() {
+    var rows = [["Figure"].concat(picked)];
+    designs.fields.forEach(function (name, f) {
+      rows.push([designs.headers[f]].concat(picked.map(function (id) {
+        return byId[id].shown[f];
+      })));
+    });
+    return rows;
+  }
+
+  function drawComparison() {
+    var table = document.getElementById("compare-table");
+    var charts = document.getElementById("compare-charts");
+    var chips = document.getElementById("compare-chips");
+    if (!table) {
+      return;
+    }
+    clear(table);
+    clear(charts);
+    clear(chips);
+    picked.forEach(function (id) {
+      var chip = element("button", id + " ×", "chip");
+      chip.type = "button";
+      chip.setAttribute("data-design", id);
+      chip.title = "take out of the comparison";
+      chips.appendChild(chip);
+    });
+    if (picked.length < 2) {
+      table.appendChild(element("p", "Pick " + (2 - picked.length) +
+        " more design(s): from the list above, or with Compare on a build sheet.", "note"));
+      return;
+    }
+    var grid = element("table", null, "data compare");
+    var head = element("tr");
+    head.appendChild(element("th", "Figure"));
+    picked.forEach(function (id) {
+      var th = element("th", id);
+      th.setAttribute("data-design", id);
+      head.appendChild(th);
+    });
+    var thead = element("thead");
+    thead.appendChild(head);
+    grid.appendChild(thead);
+    var body = element("tbody");
+    designs.fields.forEach(function (name, f) {
+      var tr = element("tr");
+      tr.appendChild(element("td", designs.headers[f]));
+      var values = picked.map(function (id) { return byId[id].values[f]; });
+      var shown = picked.map(function (id) { return byId[id].shown[f]; });
+      var better = designs.better[f];
+      var numbers = values.filter(function (v) { return typeof v === "number"; });
+      var best = null;
+      if (better && numbers.length === values.length) {
+        best = better === "min" ? Math.min.apply(null, numbers) : Math.max.apply(null, numbers);
+      }
+      var differs = shown.some(function (v) { return v !== shown[0]; });
+      shown.forEach(function (text, i) {
+        var td = element("td", text, typeof values[i] === "number" ? "num" : "");
+        if (differs) {
+          td.classList.add("differs");
+        }
+        if (best !== null && differs && values[i] === best) {
+          td.classList.add("best");
+        }
+        tr.appendChild(td);
+      });
+      body.appendChild(tr);
+    });
+    grid.appendChild(body);
+    var scroll = element("div", null, "scroll");
+    scroll.appendChild(grid);
+    table.appendChild(scroll);
+    designs.points.forEach(function (point, p) {
+      var wrapper = element("div", null, "compare-chart");
+      wrapper.appendChild(element("div", "At " + point, "note"));
+      var slot = element("div");
+      slot.style.height = "300px";
+      wrapper.appendChild(slot);
+      charts.appendChild(wrapper);
+      var traces = designs.parts.map(function (part, k) {
+        return {
+          type: "bar", name: part, x: picked.slice(),
+          y: picked.map(function (id) {
+            var losses = byId[id].losses[p];
+            return losses ? losses[k] : null;
+          }),
+          marker: { color: LOSS_COLOURS[k] },
+          hovertemplate: part + ": %{y:.3f} W<extra></extra>",
+        };
+      });
+      var layout = {
+        barmode: "stack", height: 300, margin: { l: 56, r: 12, t: 36, b: 40 },
+        yaxis: { title: { text: "loss [W]" } },
+        xaxis: { type: "category" },
+        paper_bgcolor: "#fffdf8", plot_bgcolor: "#fbf8f1",
+        legend: { orientation: "h", y: -0.2 },
+      };
+      // The point's name is user text: plotly draws a title as markup, so it stands
+      // above the chart as DOM text instead.
+      Plotly.newPlot(slot, traces, layout, config);
+    });
+  }
+
+  function pick(id) {
+    if (!byId[id] || picked.indexOf(id) >= 0) {
+      return;
+    }
+    if (picked.length >= MAX_PICKED) {
+      picked.shift();
+    }
+    picked.push(id);
+    drawComparison();
+  }
+
+  function unpick(id) {
+    picked = picked.filter(function (p) { return p !== id; });
+    drawComparison();
+  }
+
+  function csvText() {
+    return comparisonRows().map(function (row) {
+      return row.map(function (cell) {
+        var text = String(neutraliseCell(String(cell)));
+        return /[",\n\r]/.test(text) ? '"' + text.replace(/"/g, '""') + '"' : text;
+      }).join(",");
+    }).join("\r\n") + "\r\n";
+  }
+
+  function exportCsv() {
+    if (picked.length < 2) {
+      return;
+    }
+    var blob = new Blob([csvText()], { type: "text/csv;charset=utf-8" });
+    var link = element("a");
+    link.href = URL.createObjectURL(blob);
+    link.download = "compared-designs.csv";
+    document.body.appendChild(link);
+    link.click();
+    link.remove();
+  }
+
+  function setUpComparison() {
+    var select = document.getElementById("compare-pick");
+    if (!select || !designs) {
+      return;
+    }
+    designs.designs.forEach(function (row) {
+      var label = row.id + " — " + row.shown[0] + ", " + row.shown[1] +
+        (row.kind === "reference" ? " (reference)" : row.shortlisted ? " (short-listed)" : "");
+      var option = element("option", label);
+      option.value = row.id;
+      select.appendChild(option);
+    });
+    document.getElementById("compare-add").addEventListener("click", function () {
+      pick(select.value);
+    });
+    document.getElementById("compare-clear").addEventListener("click", function () {
+      picked = [];
+      drawComparison();
+    });
+    document.getElementById("compare-csv").addEventListener("click", exportCsv);
+    drawComparison();
+  }
+
+  document.addEventListener("click", function (event) {
+    var target = event.target;
+    if (!target.closest) {
+      return;
+    }
+    var add = target.closest("button.compare-add");
+    if (add) {
+      pick(add.getAttribute("data-design"));
+      var card = document.getElementById("compare");
+      if (card) {
+        card.scrollIntoView({ block: "start" });
+      }
+      return;
+    }
+    var chip = target.closest("#compare-chips button.chip");
+    if (chip) {
+      unpick(chip.getAttribute("data-design"));
+    }
+  });
+
+  /* ---- cost over the product's life -------------------------------------------- */
+
+  function lifetimeRanking(price, hours) {
+    return designs.designs.filter(function (row) { return row.kind === "front"; })
+      .map(function (row) {
+        var energy = field(row, "weighted_loss_W") * hours / 1000 * price;
+        return { id: row.id, part: field(row, "cost"), energy: energy,
+          total: field(row, "cost") + energy, loss: field(row, "weighted_loss_W") };
+      })
+      .sort(function (a, b) { return a.total - b.total || (a.id < b.id ? -1 : 1); });
+  }
+
+  function drawLifetime() {
+    var priceInput = document.getElementById("energy-price");
+    var hoursInput = document.getElementById("operating-hours");
+    var holder = document.getElementById("lifetime-table");
+    var price = Number(priceInput.value);
+    var hours = Math.max(0, Number(hoursInput.value) || 0);
+    document.getElementById("energy-price-shown").textContent =
+      format(price, 3) + " " + designs.currency + "/kWh";
+    var ranking = lifetimeRanking(price, hours);
+    clear(holder);
+    var table = element("table", null, "data");
+    var head = element("tr");
+    ["#", "Design", "Weighted loss [W]", "Part cost", "Energy cost", "Lifetime cost", ""]
+      .forEach(function (h) { head.appendChild(element("th", h)); });
+    var thead = element("thead");
+    thead.appendChild(head);
+    table.appendChild(thead);
+    var body = element("tbody");
+    ranking.slice(0, 10).forEach(function (row, i) {
+      var tr = element("tr", null, "pick");
+      tr.setAttribute("data-design", row.id);
+      [String(i + 1), row.id, format(row.loss, 3), format(row.part, 2), format(row.energy, 2),
+        format(row.total, 2)].forEach(function (text, k) {
+        tr.appendChild(element("td", text, k === 1 ? "" : "num"));
+      });
+      var mark = element("td");
+      if (i === 0) {
+        mark.appendChild(element("span", "cheapest over the life", "badge knee"));
+        tr.classList.add("cheapest");
+      }
+      tr.appendChild(mark);
+      body.appendChild(tr);
+    });
+    table.appendChild(body);
+    var scroll = element("div", null, "scroll");
+    scroll.appendChild(table);
+    holder.appendChild(scroll);
+    holder.setAttribute("data-cheapest", ranking.length ? ranking[0].id : "");
+  }
+
+  function setUpLifetime() {
+    var priceInput = document.getElementById("energy-price");
+    if (!priceInput || !designs) {
+      return;
+    }
+    priceInput.addEventListener("input", drawLifetime);
+    document.getElementById("operating-hours").addEventListener("input", drawLifetime);
+    drawLifetime();
+  }
+
   if ("IntersectionObserver" in window) {
     observer = new IntersectionObserver(onSight, { rootMargin: "100px 0px" });
   }
   window.optimagReport = {
     draw: draw, watch: watch, sources: sources, readJson: readJson, openSheet: openSheet,
-    afterDraw: afterDraw,
+    afterDraw: afterDraw, pick: pick, csvText: csvText, lifetimeRanking: lifetimeRanking,
   };
+  setUpComparison();
+  setUpLifetime();
   watch(document);
   if (!observer || document.querySelectorAll("div.lazy-figure").length === 0) {
     first = false;

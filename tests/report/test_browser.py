@@ -314,3 +314,74 @@ def test_a_click_on_a_ranked_row_opens_its_build_sheet(built_report: Path) -> No
         top = tab.evaluate("document.querySelector('article.sheet.opened')"
                            ".getBoundingClientRect().top")
         assert abs(top) < 5  # scrolled to it
+
+
+def test_the_comparison_shows_the_picked_designs_and_exports_a_safe_csv(
+    tmp_path: Path, make_run
+) -> None:
+    """Two designs picked in the page (one from the list, one with Compare on its build
+    sheet) fill the table and one loss chart per operating point; the CSV holds the
+    cells as shown, formula-like ones neutralised by the export rule
+    (`optimag.files.neutralise_text`)."""
+    import csv
+    import io
+    import json
+
+    from optimag import files
+    from optimag.report.html import build_report
+
+    chromium_or_skip()
+    folder = make_run(tmp_path)
+    front = json.loads((folder / "front.json").read_text("utf-8"))
+    front["designs"][7]["core"] = '=HYPERLINK("http://example.invalid")'
+    (folder / "front.json").write_text(json.dumps(front), "utf-8")
+    page = build_report(folder)
+    with Browser(window=WINDOW) as browser:
+        tab = _open_page(browser, page)
+        tab.evaluate("document.getElementById('compare-pick').value = 'D0008'")
+        tab.click_element("document.getElementById('compare-add')")
+        tab.click_element("document.querySelector('#design-D0002 button.compare-add')")
+        heads = tab.wait_for(
+            "Array.from(document.querySelectorAll('#compare-table th[data-design]'))"
+            ".map(th => th.textContent)", 30)
+        assert heads == ["D0008", "D0002"]
+        core_row = tab.evaluate(
+            "Array.from(document.querySelectorAll('#compare-table tbody tr')[0].cells)"
+            ".map(td => td.textContent)")
+        assert core_row[1:] == [front["designs"][7]["core"], front["designs"][1]["core"]]
+        assert tab.evaluate("document.querySelectorAll('#compare-table td.differs').length") > 0
+        charts = tab.wait_for(
+            "document.querySelectorAll('#compare-charts .js-plotly-plot').length", 30)
+        assert charts == 3  # one per operating point
+        text = tab.evaluate("optimagReport.csvText()")
+        rows = list(csv.reader(io.StringIO(text)))
+        assert rows[0] == ["Figure", "D0008", "D0002"]
+        assert rows[1] == ["Core", files.neutralise_text(front["designs"][7]["core"]),
+                           files.neutralise_text(front["designs"][1]["core"])]
+        assert rows[1][1].startswith("'=")
+        assert tab.console_problems() == []
+
+
+def test_the_energy_price_slider_marks_the_cheapest_over_the_life(built_report: Path) -> None:
+    """For a price and hours set in the page, the design marked cheapest is the one with
+    the lowest part cost + energy cost computed in Python (`geometry.energy_cost`)."""
+    import json
+
+    from optimag.physics.geometry import energy_cost
+
+    chromium_or_skip()
+    front = json.loads((built_report.parent / "front.json").read_text("utf-8"))["designs"]
+    with Browser(window=WINDOW) as browser:
+        tab = _open_page(browser, built_report)
+        for price, hours in ((0.0, 29_200.0), (0.25, 29_200.0), (1.0, 60_000.0)):
+            tab.evaluate(
+                f"(function () {{ var p = document.getElementById('energy-price');"
+                f" p.value = '{price}'; p.dispatchEvent(new Event('input'));"
+                f" var h = document.getElementById('operating-hours'); h.value = '{hours}';"
+                " h.dispatchEvent(new Event('input')); })()")
+            marked = tab.evaluate(
+                "document.querySelector('#lifetime-table tr.cheapest').getAttribute("
+                "'data-design')")
+            totals = {d["design_id"]: d["cost"] + float(
+                energy_cost(d["weighted_loss_W"], hours, price)) for d in front}
+            assert marked == min(totals, key=lambda k: (totals[k], k)), (price, hours)

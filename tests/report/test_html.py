@@ -21,7 +21,7 @@ from hypothesis import strategies as st
 from plotly.offline import get_plotlyjs
 
 from optimag.report import data, figures
-from optimag.report.html import CAUTIONS, PAGE_SCRIPT, build_report, json_for_script
+from optimag.report.html import CAUTIONS, build_report, json_for_script, page_script
 
 SIZE_LIMIT_BYTES = 10_000_000
 BUILD_TIME_LIMIT_S = 5.0
@@ -106,7 +106,7 @@ def test_every_script_is_one_of_ours(page: str) -> None:
     """Plotly's bundle, the page's own script and JSON blocks (summary, figures): nothing
     else; one embedded figure per slot, each a plain {data, layout} dict."""
     bundle = get_plotlyjs()
-    ours = PAGE_SCRIPT.read_text(encoding="utf-8")
+    ours = page_script()
     blocks: dict[str, Any] = {}
     for attrs, body in _parse(page).scripts:
         assert "src" not in attrs
@@ -114,7 +114,7 @@ def test_every_script_is_one_of_ours(page: str) -> None:
             blocks[str(attrs.get("id"))] = json.loads(body)
         else:
             assert body in (bundle, ours), body[:200]
-    assert set(blocks) == {"optimag-run-summary", "optimag-figures"}
+    assert set(blocks) == {"optimag-run-summary", "optimag-figures", "optimag-designs"}
     embedded = blocks["optimag-figures"]["figures"]
     # Per build sheet: drawing, losses, inductance, headroom and two scatter histograms;
     # 5 sheets shown, 7 more (the other front designs) as templates.
