@@ -506,6 +506,11 @@ def parts_list(record: dict) -> list[dict]:
     return parts
 
 
+def _finite_or_none(value: float) -> float | None:
+    number = float(value)
+    return number if math.isfinite(number) else None
+
+
 def design_records(
     space: model.DesignSpace,
     candidates: model.Candidates,
@@ -697,9 +702,13 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         "energy_cost": float(metrics["energy_cost"][i]),
         "lifetime_cost": float(metrics["lifetime_cost"][i]),
         "area_product_cm4": float(details["area_product_m4"][i] * 1e8),
-        "area_product_required_cm4": float(details["area_product_required_m4"][i] * 1e8),
+        # A flux limit driven towards zero makes the required Ap and Kg infinite: the
+        # record says "none would do" as null, which strict JSON can carry.
+        "area_product_required_cm4": _finite_or_none(
+            details["area_product_required_m4"][i] * 1e8
+        ),
         "geometry_coefficient_cm5": float(details["geometry_coefficient_m5"][i] * 1e10),
-        "geometry_coefficient_required_cm5": float(
+        "geometry_coefficient_required_cm5": _finite_or_none(
             details["geometry_coefficient_required_m5"][i] * 1e10
         ),
         "feasible": bool(metrics["feasible"][i]),
