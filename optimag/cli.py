@@ -202,13 +202,17 @@ def _explore(args) -> int:
                                 continuing=continuing, protect=protect,
                                 discard_if_unused=made):
         storage = args.storage
-        db = out_dir / files.STORAGE_NAME
-        if args.overwrite and db.exists():
-            db.unlink()  # --overwrite starts afresh, trials included
+        if args.overwrite:  # --overwrite starts afresh, trials included
+            for name in (files.STORAGE_NAME, files.LEGACY_STORAGE_NAME):
+                (out_dir / name).unlink(missing_ok=True)
         if folder_storage:
-            if db.exists():
-                print(f"continuing the optuna study kept in {db}", file=sys.stderr)
-            storage = f"sqlite:///{db.resolve()}"
+            from optimag.search.optuna_search.storage import folder_storage as kept_storage
+            from optimag.search.optuna_search.storage import kept_in_folder
+
+            kept = kept_in_folder(out_dir)
+            if kept is not None:
+                print(f"continuing the optuna study kept in {kept}", file=sys.stderr)
+            storage = kept_storage(out_dir)
         started = time.perf_counter()
         with Progress(
             TextColumn("[bold]exploring[/bold]"), BarColumn(),
@@ -504,7 +508,8 @@ def build_parser() -> argparse.ArgumentParser:
                          help="exhaustive: search a space above the size or memory limit")
     explore.add_argument("--trials", type=_trials, help="optuna: number of trials")
     explore.add_argument("--seed", type=_seed, help=f"optuna: sampler seed, 0 to {SEED[1]}")
-    explore.add_argument("--storage", help="optuna: SQLAlchemy storage URL")
+    explore.add_argument("--storage", help="optuna: SQLAlchemy URL or journal file path "
+                         "(default: optuna.journal in the run folder)")
     explore.add_argument("--workers", type=_positive_int,
                          help="exhaustive: worker processes on this machine (default: every "
                               "core for a large space, else 1)")
@@ -513,7 +518,8 @@ def build_parser() -> argparse.ArgumentParser:
                               "ADDRESS (e.g. tcp://192.0.2.10:8786)")
     worker = commands.add_parser(
         "worker", help="add trials to an optuna study kept in a shared storage")
-    worker.add_argument("--storage", required=True, help="SQLAlchemy URL of the storage")
+    worker.add_argument("--storage", required=True,
+                        help="SQLAlchemy URL or journal file path of the storage")
     worker.add_argument("--study", required=True, help="name of the optuna study")
     worker.add_argument("--study-file", help="study .toml (default: the text kept in storage)")
     worker.add_argument("--trials", type=_trials,

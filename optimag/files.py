@@ -57,8 +57,10 @@ NEUTRALISE_JS = (
 
 #: Lock file of a run folder (holds the holder's pid, host and start time).
 LOCK_NAME = ".optimag-lock"
-#: The optuna storage a run keeps in its folder by default.
-STORAGE_NAME = "optuna.db"
+#: The optuna storage a run keeps in its folder by default (a journal file).
+STORAGE_NAME = "optuna.journal"
+#: The run folder's optuna storage before the journal (SQLite); such folders still resume.
+LEGACY_STORAGE_NAME = "optuna.db"
 
 
 # ---------------------------------------------------------------------------------------

@@ -40,15 +40,16 @@ RUN_FILES = ("study.toml", "pareto.csv", "shortlist.csv", "shortlist.xlsx", "sho
 
 def continues_optuna_run(folder: Path | str, storage_url: str | None) -> bool:
     """True when a run of the optuna strategy with ``storage_url`` (None: the default
-    ``optuna.db`` in the folder) continues the run whose results ``folder`` holds: the
-    folder keeps that storage, or its run.json names the same storage."""
-    from optimag.search.optuna_search import shown_storage
+    ``optuna.journal``, or an older folder's ``optuna.db``, in the folder) continues the
+    run whose results ``folder`` holds: the folder keeps that storage, or its run.json
+    names the same storage."""
+    from optimag.search.optuna_search.storage import kept_in_folder, shown_storage
 
     folder = Path(folder)
     if not folder.is_dir():
         return False
     if storage_url is None:
-        return (folder / files.STORAGE_NAME).is_file()
+        return kept_in_folder(folder) is not None
     try:
         meta = json.loads((folder / "run.json").read_text(encoding="utf-8"))
     except (OSError, ValueError):
@@ -62,11 +63,14 @@ def _continues(result: ExploreResult, run_dir: Path) -> bool:
     if not settings:
         return False
     shown = settings.get("storage", "")
-    folder_db = f"sqlite:///{(Path(run_dir) / files.STORAGE_NAME).resolve()}"
-    from optimag.search.optuna_search import shown_storage
+    from optimag.search.optuna_search.storage import (
+        folder_storage,
+        kept_in_folder,
+        shown_storage,
+    )
 
-    if shown == shown_storage(folder_db):
-        return (Path(run_dir) / files.STORAGE_NAME).is_file()
+    if shown == shown_storage(folder_storage(run_dir)):
+        return kept_in_folder(run_dir) is not None
     try:
         meta = json.loads((Path(run_dir) / "run.json").read_text(encoding="utf-8"))
     except (OSError, ValueError):

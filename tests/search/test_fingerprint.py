@@ -82,8 +82,8 @@ def test_stale_resume_is_refused_and_re_evaluate_rescores(make_tiny_study, tmp_p
     assert (front["weighted_loss_W"] <= 0.6 + 1e-9).all()
     # Every stored trial now carries the current study's figures: a trial that the
     # tightened limits rule out is stored as infeasible.
-    url = f"sqlite:///{(out / 'optuna.db').resolve()}"
-    disk = optuna.load_study(study_name="tiny-buck", storage=url)
+    url = str(out / "optuna.journal")
+    disk = optuna.load_study(study_name="tiny-buck", storage=osearch.open_storage(url))
     problem = osearch.OptunaProblem(load_study(study), load_catalog(
         load_study(study).catalog.path))
     crop = osearch.harvest(disk, problem)
