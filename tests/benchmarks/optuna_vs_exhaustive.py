@@ -12,7 +12,8 @@ objective over both fronts (so it lies beyond every point of either front).
     python tests/benchmarks/optuna_vs_exhaustive.py
     python tests/benchmarks/optuna_vs_exhaustive.py studies/cargo-bike-buck.toml \\
         --sampler tpe --population 40 --batch 64 --seeds 0 1 2
-    python tests/benchmarks/optuna_vs_exhaustive.py --storage sqlite   # time a database
+    python tests/benchmarks/optuna_vs_exhaustive.py --storage journal  # the run folder's
+    python tests/benchmarks/optuna_storage_speed.py   # in memory against persisted
 
 Targets: ratio >= 0.99 within 3000 trials; >= 500 trials/s with batching (in memory).
 """
@@ -67,10 +68,12 @@ def run_one(path: Path, args, seed: int) -> list[str]:
     target = max(args.checkpoints)
     problem = osearch.OptunaProblem(study, catalog, decoders=not args.no_decoder)
     disk = folder = None
-    if args.storage == "sqlite":
+    if args.storage != "memory":
         folder = tempfile.TemporaryDirectory()
+        spec = osearch.storage_spec(folder.name, None if args.storage == "journal" else
+                                    f"sqlite:///{folder.name}/optuna.db")
         disk = osearch.open_optuna_study(
-            problem, osearch.storage_url_for(folder.name, None), target=target,
+            problem, osearch.open_storage(spec), target=target,
             batch_size=args.batch, sampler_name=args.sampler)
     sampler = osearch.make_sampler(args.sampler, seed, args.population, args.mutation)
     ostudy = osearch.memory_study(problem, sampler)
@@ -109,7 +112,7 @@ def main() -> None:
                         help="NSGA-II mutation probability per parameter")
     parser.add_argument("--seeds", type=int, nargs="+", default=[0])
     parser.add_argument("--checkpoints", type=int, nargs="+", default=list(CHECKPOINTS))
-    parser.add_argument("--storage", default="memory", choices=["memory", "sqlite"])
+    parser.add_argument("--storage", default="memory", choices=["memory", "journal", "sqlite"])
     parser.add_argument("--keep-duplicates", action="store_true",
                         help="evaluate repeated designs instead of skipping them")
     parser.add_argument("--no-decoder", action="store_true",

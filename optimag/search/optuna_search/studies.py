@@ -74,10 +74,16 @@ def open_optuna_study(
     """
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     directions = ["minimize"] * len(problem.objectives)
-    ostudy = optuna.create_study(
-        storage=storage, study_name=problem.study_name, directions=directions,
-        load_if_exists=True,
-    )
+    try:
+        # Loaded first: creating an existing study would still log an operation in a
+        # journal, and a refused resume must leave the storage as it was.
+        ostudy = optuna.load_study(study_name=problem.study_name, storage=storage,
+                                   sampler=optuna.samplers.RandomSampler())
+    except KeyError:
+        ostudy = optuna.create_study(
+            storage=storage, study_name=problem.study_name, directions=directions,
+            load_if_exists=True,
+        )
     attrs = ostudy.user_attrs
     content = fingerprint_content(problem.study, problem.catalog)
     fingerprint = study_fingerprint(problem.study, problem.catalog)
