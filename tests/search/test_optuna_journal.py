@@ -110,7 +110,8 @@ def test_two_processes_append_to_one_journal(tmp_path):
 def test_a_folder_with_an_older_sqlite_storage_resumes(tmp_path, tiny_study_path):
     """A run folder written before the journal: its ``optuna.db`` holds trials in the
     older form (violations as optuna's list-valued constraints, no optimag user
-    attribute but the evaluated design). The run goes on in that database and reads those trials right."""
+    attribute but the evaluated design). The run goes on in that database and reads
+    those trials right."""
     run_dir = tmp_path / "run"
     run_dir.mkdir()
     url = f"sqlite:///{run_dir / 'optuna.db'}"
