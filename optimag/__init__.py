@@ -32,14 +32,14 @@ def explore(study, *, strategy=None, trials=None, seed=None, storage=None, top: 
     """Run what the study asks: its ``[search] strategy`` (or ``strategy``), exhaustive or
     optuna, with ``[custom_core]`` searched by optuna. ``study`` is a Study or a path.
 
-    ``trials``, ``seed`` and ``storage`` (SQLAlchemy URL; in memory without it) apply to
-    optuna; ``re_evaluate`` re-scores the trials of a storage started under a different
-    study, catalogue or optimag version (which is refused otherwise). An exhaustive search
-    passes its candidate count and estimated peak memory to ``announce`` and refuses a
-    space above the size or memory limit unless ``force``. It runs on ``workers`` processes
-    of this machine (default: every core for a large space) or on the Dask cluster at
-    ``scheduler``, with the same front and counts. Returns an `ExploreResult`; see
-    `optimag.search.run.explore`.
+    ``trials``, ``seed`` and ``storage`` (SQLAlchemy URL or ``.journal`` file path; in
+    memory without it) apply to optuna; ``re_evaluate`` re-scores the trials of a storage
+    started under a different study, catalogue or optimag version (which is refused
+    otherwise). An exhaustive search passes its candidate count and estimated peak memory to
+    ``announce`` and refuses a space above the size or memory limit unless ``force``. It
+    runs on ``workers`` processes of this machine (default: every core for a large space)
+    or on the Dask cluster at ``scheduler``, with the same front and counts. Returns an
+    `ExploreResult`; see `optimag.search.run.explore`.
     """
     from optimag.search.run import explore as _explore
 

@@ -67,10 +67,11 @@ def explore(study, catalog=None, *, strategy: str | None = None, trials: int | N
     ``study`` is a loaded Study or a path to a study file; ``catalog`` defaults to the
     study's catalogue. ``strategy`` (default: the study's ``[search] strategy``) is
     ``"exhaustive"`` (every candidate of the catalogue) or ``"optuna"`` (``trials``,
-    ``seed`` and the SQLAlchemy ``storage`` URL apply, and a ``[custom_core]`` table is
-    searched beside the catalogue; an existing optuna study in ``storage`` is resumed,
-    or re-scored under this study with ``re_evaluate``). A ``[custom_core]`` table under
-    the exhaustive strategy is noted in the run record: only the catalogue is enumerated.
+    ``seed`` and ``storage`` (SQLAlchemy URL or ``.journal`` file path) apply, and a
+    ``[custom_core]`` table is searched beside the catalogue; an existing optuna study in
+    ``storage`` is resumed, or re-scored under this study with ``re_evaluate``). A
+    ``[custom_core]`` table under the exhaustive strategy is noted in the run record: only
+    the catalogue is enumerated.
 
     Before an exhaustive search, the candidate count and estimated peak memory are passed
     to ``announce`` (one line of text); a space above `optimag.ranges.MAX_CANDIDATES`
