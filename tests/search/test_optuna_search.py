@@ -215,12 +215,12 @@ def test_resume_refuses_changed_objectives(tmp_path, make_tiny_study):
 
 def test_worker_rebuilds_the_study_from_storage(tmp_path, make_tiny_study):
     path = make_tiny_study()
-    url = f"sqlite:///{tmp_path / 'shared.db'}"
+    url = str(tmp_path / "shared.journal")
     osearch.explore_optuna(path, trials=64, storage=url)
     path.unlink()  # the worker must not need the study file
     counts = osearch.run_worker(url, "tiny-buck", trials=130, batch_size=33)
     assert counts.told == 66
-    disk = optuna.load_study(study_name="tiny-buck", storage=url)
+    disk = optuna.load_study(study_name="tiny-buck", storage=_optuna_journal(url))
     complete = disk.get_trials(states=(optuna.trial.TrialState.COMPLETE,))
     assert len(complete) == 130
     assert sorted(t.number for t in disk.get_trials()) == list(range(130))

@@ -36,12 +36,24 @@ def test_read_only_storage(tiny_study_path, tmp_path, capsys):
     assert code == 2 and "read-only" in err and "Traceback" not in err
 
 
-def test_worker_does_not_create_an_empty_database(tmp_path, capsys):
-    database = tmp_path / "new.db"
-    code = cli.main(["worker", "--storage", f"sqlite:///{database}", "--study", "x"])
+@pytest.mark.parametrize("name, storage", [("new.db", "sqlite:///{}"), ("new.journal", "{}")])
+def test_worker_does_not_create_an_empty_database(tmp_path, capsys, name, storage):
+    database = tmp_path / name
+    code = cli.main(["worker", "--storage", storage.format(database), "--study", "x"])
     err = capsys.readouterr().err
     assert code == 2 and "no database at" in err and "Traceback" not in err
     assert not database.exists()
+
+
+def test_journal_in_a_missing_folder(tiny_study_path, tmp_path, capsys):
+    code = cli.main(["explore", str(tiny_study_path), "--strategy", "optuna", "--trials",
+                     "10", "--storage", "/no/such/folder/trials.journal",
+                     "--out", str(tmp_path / "run")])
+    err = capsys.readouterr().err
+    lines = err.strip().splitlines()
+    assert code == 2 and len(lines) == 1 and "Traceback" not in err
+    assert lines[0].startswith("optimag: storage /no/such/folder/trials.journal: ")
+    assert "No such file or directory" in lines[0]
 
 
 def test_worker_on_an_unreachable_server(capsys):

@@ -9,8 +9,9 @@ two ways that make a persisted trial nearly as cheap as one in memory:
   kernel drops it when a process dies, so a killed run never leaves a stale lock);
 * a write reaches the operating system at once (a killed process loses nothing it
   wrote), but the file is flushed to the disk (``fsync``) at most every
-  `SYNC_INTERVAL_S` seconds and by `sync`, not after every operation: a power cut may
-  lose the last half second of trials, which a resumed run asks again.
+  `SYNC_INTERVAL_S` seconds, by `sync` and when the process exits, not after every
+  operation: a power cut may lose the last half second of trials, which a resumed run
+  asks again.
 
 Several processes on one machine (or one shared file system with working locks) may
 share a journal: `optimag worker --storage PATH`.
@@ -18,6 +19,8 @@ share a journal: `optimag worker --storage PATH`.
 
 from __future__ import annotations
 
+import atexit
+import contextlib
 import fcntl
 import json
 import os
@@ -47,6 +50,7 @@ class JournalFile(BaseJournalBackend):
         self.offsets: dict[int, int] = {0: 0}
         self.synced_at = time.monotonic()
         self.unsynced = False
+        atexit.register(self.sync_at_exit)
 
     def read_logs(self, log_number_from: int) -> Iterator[dict[str, Any]]:
         """The operations numbered ``log_number_from`` and later. A last line still being
@@ -94,3 +98,8 @@ class JournalFile(BaseJournalBackend):
         finally:
             os.close(descriptor)
         self.synced_at, self.unsynced = time.monotonic(), False
+
+    def sync_at_exit(self) -> None:
+        """`sync`, for the end of the process (a journal removed meanwhile is let be)."""
+        with contextlib.suppress(OSError):
+            self.sync()
