@@ -19,6 +19,8 @@ VOLTAGE_V = (0.01, 10_000.0)
 CURRENT_A = (0.001, 10_000.0)
 INDUCTANCE_UH = (0.001, 1e6)  # 1 nH to 1 H
 RIPPLE_FRACTION = (0.01, 2.0)  # 2 is the CCM/DCM boundary
+# Peak flux allowed as a fraction of Bsat: below 5 % no core is used as an inductor core.
+FLUX_MARGIN = (0.05, 1.0)
 TEMPERATURE_C = (-100.0, 300.0)
 HEIGHT_MM = (0.1, 1000.0)
 FOOTPRINT_MM2 = (0.01, 1e6)

@@ -49,6 +49,7 @@ from optimag.ranges import (
     CUSTOM_DIMENSION_MM,
     ENCLOSURE_VOLUME_CM3,
     ENERGY_PRICE_PER_KWH,
+    FLUX_MARGIN,
     FOOTPRINT_MM2,
     FREQUENCY_KHZ,
     GAP_GRID_ENTRIES,
@@ -93,6 +94,7 @@ def _whole(low: int, high: int) -> Any:
 
 Fraction = Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=1)]
 RippleFraction = _bounded(*RIPPLE_FRACTION)
+FluxMargin = _bounded(*FLUX_MARGIN)
 Percent = Annotated[float, Strict(), AllowInfNan(False), Field(ge=0, le=50)]
 Celsius = _bounded(*TEMPERATURE_C)
 Frequency = _bounded(*FREQUENCY_KHZ)
@@ -199,7 +201,7 @@ class Limits(_Section):
     """Highest allowed height of the wound part above the board; no limit when absent."""
     max_footprint_mm2: AreaMM2 | None = None
     """Largest allowed board area of the wound part; no limit when absent."""
-    flux_margin: Fraction = 0.8
+    flux_margin: FluxMargin = 0.8
     """Peak flux density allowed, as a fraction of the saturation flux density at the
     temperature limit."""
     max_fill_factor: Fraction = 0.5
