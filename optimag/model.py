@@ -45,6 +45,7 @@ from optimag.physics import (
     thermal,
     winding,
 )
+from optimag.study.operating import OperatingArrays
 from optimag.study.waveform import current_shape_from_voltages, pulse_harmonics
 
 #: Constraint names in the order a candidate's elimination is attributed.
@@ -316,58 +317,6 @@ class WireArrays:
 
 
 @dataclass(frozen=True)
-class OperatingArrays:
-    """Operating points stacked on a leading axis K (currents at the required inductance)."""
-
-    names: tuple[str, ...]
-    share: np.ndarray  # (K,)
-    frequency_Hz: float
-    dcm: np.ndarray  # (K,) bool
-    rise: np.ndarray  # (K,)
-    fall: np.ndarray  # (K,)
-    dc_A: np.ndarray  # (K,)
-    ripple_A: np.ndarray  # (K,) peak to peak
-    harmonics_A: np.ndarray  # (K, H)
-    input_V: np.ndarray  # (K,)
-    output_V: np.ndarray  # (K,)
-    load_A: np.ndarray  # (K,)
-    rise_V: np.ndarray  # (K,) inductor voltage magnitude while the current rises
-    fall_V: np.ndarray  # (K,) inductor voltage magnitude while the current falls
-
-    @classmethod
-    def from_waveforms(cls, waveforms, topology: str) -> OperatingArrays:
-        from optimag.study.waveform import inductor_voltages
-
-        rise_V, fall_V, _ = inductor_voltages(
-            topology, [w.input_V for w in waveforms], [w.output_V for w in waveforms], 0.0
-        )
-        return cls(
-            names=tuple(w.name for w in waveforms),
-            share=np.array([w.time_share for w in waveforms], dtype=float),
-            frequency_Hz=float(waveforms[0].frequency_Hz),
-            dcm=np.array([w.dcm for w in waveforms], dtype=bool),
-            rise=np.array([w.rise_fraction for w in waveforms], dtype=float),
-            fall=np.array([w.fall_fraction for w in waveforms], dtype=float),
-            dc_A=np.array([w.dc_A for w in waveforms], dtype=float),
-            ripple_A=np.array([w.ripple_pp_A for w in waveforms], dtype=float),
-            harmonics_A=np.stack([np.asarray(w.harmonics_A, dtype=float) for w in waveforms]),
-            input_V=np.array([w.input_V for w in waveforms], dtype=float),
-            output_V=np.array([w.output_V for w in waveforms], dtype=float),
-            load_A=np.array([w.load_A for w in waveforms], dtype=float),
-            rise_V=np.asarray(rise_V, dtype=float),
-            fall_V=np.asarray(fall_V, dtype=float),
-        )
-
-    @property
-    def valley_A(self) -> np.ndarray:
-        return np.where(self.dcm, 0.0, self.dc_A - self.ripple_A / 2)
-
-    @property
-    def peak_A(self) -> np.ndarray:
-        return np.where(self.dcm, self.ripple_A, self.dc_A + self.ripple_A / 2)
-
-
-@dataclass(frozen=True)
 class Cooling:
     """How the part sheds its heat (the study's ``[cooling]``), SI.
 
@@ -487,8 +436,6 @@ def _finite_or_inf(value) -> float:
 
 def build_design_space(study, catalog) -> DesignSpace:
     """Gather the study's requirements and the (filtered) catalogue into SI arrays."""
-    from optimag.study import operating_waveforms
-
     search = study.search
     cores, materials, wires = catalog.cores, catalog.materials, catalog.wires
     if search.cores:
@@ -519,7 +466,6 @@ def build_design_space(study, catalog) -> DesignSpace:
         energy_price_per_kWh=float(study.cost.energy_price_per_kWh or 0.0),
         operating_hours=float(study.cost.operating_hours or 0.0),
     )
-    waveforms = operating_waveforms(study)
     gap_grid = None
     if search.gap == "grid":
         gap_grid = np.asarray(search.gap_grid_mm, dtype=float) * 1e-3
@@ -527,7 +473,7 @@ def build_design_space(study, catalog) -> DesignSpace:
         cores=CoreArrays.from_frame(cores.reset_index(drop=True)),
         materials=MaterialArrays.from_frame(materials.reset_index(drop=True)),
         wires=WireArrays.from_frame(wires.reset_index(drop=True)),
-        operating=OperatingArrays.from_waveforms(waveforms, study.converter.topology),
+        operating=OperatingArrays.from_study(study),
         requirements=requirements,
         turns=np.arange(search.turns_min, search.turns_max + 1, dtype=np.int64),
         stacks=np.arange(search.stack_min, search.stack_max + 1, dtype=np.int64),
@@ -750,21 +696,37 @@ def magnetic_stage(
             current, p_window[col],
         )
 
-    # Each design's own current at each point: its incremental inductance at the point's
-    # average current (rolled off by the bias: powder roll-off, ferrite soft saturation)
-    # decides CCM or DCM, the conduction intervals, the ripple and the peak (Erickson &
-    # Maksimović, ch. 2 and 5).
-    dc = np.broadcast_to(op.dc_A[None, :], (len(n_turns), len(op.dc_A)))
+    # Each design's own current at each instant (one per DC-DC point; a line-cycle point
+    # has many): its incremental inductance at the instant's average current (rolled off
+    # by the bias: powder roll-off, ferrite soft saturation) decides CCM or DCM, the
+    # conduction intervals, the ripple and the peak (Erickson & Maksimović, ch. 2 and 5).
+    # A bridge (bidirectional switches) stays continuous, its valley may cross zero.
+    n_inst = len(op.dc_A)
+    dc = np.broadcast_to(np.abs(op.dc_A)[None, :], (len(n_turns), n_inst))
+    frequency = op.instant_frequency_Hz[None, :]
+    two_way = op.instant_bidirectional[None, :]
     inductance_dc, _ = large_signal(dc)
     # An unreachable gap leaves no usable inductance; any positive stand-in keeps the
     # arithmetic finite (the candidate is eliminated under "inductance").
     inductance_dc = np.where(inductance_dc > 0, inductance_dc, req.inductance_H)
     shape = current_shape_from_voltages(
-        op.rise_V[None, :], op.fall_V[None, :], dc, op.frequency_Hz, inductance_dc
+        op.rise_V[None, :], op.fall_V[None, :], dc, frequency, inductance_dc,
+        allow_dcm=~two_way,
     )
     dcm, rise, fall = shape.dcm, shape.rise_fraction, shape.fall_fraction
-    peak, valley = shape.peak_A, np.maximum(shape.valley_A, 0.0)
+    peak = shape.peak_A
+    valley = np.where(two_way, shape.valley_A, np.maximum(shape.valley_A, 0.0))
     ripple = shape.ripple_pp_A
+    imposed = op.from_file
+    if imposed.any():
+        # A current given by a file is the same for every design.
+        for j in np.flatnonzero(imposed):
+            wave = op.waveforms[j]
+            dcm[:, j] = False
+            peak[:, j] = wave.currents_A.max()
+            valley[:, j] = wave.currents_A.min()
+            ripple[:, j] = op.ripple_A[j]
+            rise[:, j], fall[:, j] = op.rise[j], op.fall[j]
     # Harmonics of the design's own current, needed only where it is discontinuous (a CCM
     # triangle's shape is fixed by the duty ratio; see `winding_ac_loss`).
     harmonics = np.zeros((*dcm.shape, op.harmonics_A.shape[1]))
@@ -778,29 +740,43 @@ def magnetic_stage(
     _, b_peak = large_signal(peak)
     _, b_valley = large_signal(valley)
     b_swing = b_peak - b_valley
-    # Saturation is decided in the narrowest section (Amin), at the hottest allowed
-    # temperature. The peak flux the model reports is this one; the swing for core loss
-    # stays on Ae.
-    b_peak_narrow = b_peak * (ae / amin)[:, None]
-    worst_flux = b_peak_narrow.max(axis=1)
-    saturation_violation = worst_flux / flux_limit - 1.0
-
-    # Incremental inductance left at the highest peak current.
-    inductance_peak, _ = large_signal(peak.max(axis=1))
-    peak_fraction = inductance_peak / req.inductance_H
-    peak_violation = 1.0 - peak_fraction / req.min_fraction_at_peak
 
     # Core loss density by iGSE on the triangular (CCM) or three-segment (DCM) flux.
     loss_density = coreloss.igse_loss_density_triangle(
-        op.frequency_Hz, b_swing, rise, m.k[material][:, None],
+        frequency, b_swing, rise, m.k[material][:, None],
         m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=fall,
     )
+    for j in np.flatnonzero(imposed):
+        # The imposed current's own flux, vertex by vertex through the large-signal law,
+        # by the piecewise-linear iGSE.
+        wave = op.waveforms[j]
+        _, b_wave = large_signal(np.broadcast_to(wave.currents_A, (len(n_turns),
+                                                                   wave.currents_A.size)))
+        b_peak[:, j] = np.max(np.abs(b_wave), axis=1)
+        b_swing[:, j] = np.ptp(b_wave, axis=1)
+        loss_density[:, j] = coreloss.igse_loss_density_piecewise(
+            b_wave, wave.times_s, m.k[material][:, None], m.alpha[material][:, None],
+            m.beta[material][:, None],
+        )
+    # Saturation is decided in the narrowest section (Amin), at the hottest allowed
+    # temperature. The peak flux the model reports is this one; the swing for core loss
+    # stays on Ae.
+    b_peak_narrow = np.abs(b_peak) * (ae / amin)[:, None]
+    worst_flux = b_peak_narrow.max(axis=1)
+    saturation_violation = worst_flux / flux_limit - 1.0
+
+    # Incremental inductance left at the highest peak current (a line cycle's peak).
+    inductance_peak, _ = large_signal(np.abs(peak).max(axis=1))
+    peak_fraction = inductance_peak / req.inductance_H
+    peak_violation = 1.0 - peak_fraction / req.min_fraction_at_peak
+
     # i²GSE: relaxation in the still (zero-current) interval of a DCM period, for
     # materials with relaxation parameters (Mühlethaler et al. 2012).
     relax = m.relax[material]
     has_relax = m.has_relaxation[material]
-    relax_density = np.where(has_relax[:, None], coreloss.relaxation_loss_density(
-        op.frequency_Hz, b_swing, rise, fall,
+    relax_density = np.where(has_relax[:, None] & ~imposed[None, :],
+                             coreloss.relaxation_loss_density(
+        frequency, b_swing, rise, fall,
         *(np.where(has_relax, relax[:, j], 1.0)[:, None] for j in range(5)),
     ), 0.0)
     # DC bias: the premagnetisation table's loss multiplier at H_dc = N I_dc / le.
@@ -817,13 +793,13 @@ def magnetic_stage(
                                  table_h[:, j - 1] * (1 + 1e-9) + 1e-9)
     table_h = np.where(has_bias[:, None], table_h, np.array([1.0, 2.0, 3.0]))
     table_f = np.where(has_bias[:, None], table_f, 1.0)
-    bias, beyond = coreloss.dc_bias_factor(h_dc, table_h, table_f)
+    bias, beyond = coreloss.dc_bias_factor(np.abs(h_dc), table_h, table_f)
     bias = np.where(has_bias[:, None], bias, 1.0)
-    core_loss_reference = (loss_density + relax_density) * bias * ve[:, None]
+    instant_core = (loss_density + relax_density) * bias * ve[:, None]
 
-    # Range of the material's loss fit (sinusoidal peak = half the swing), at every point.
+    # Range of the material's loss fit (sinusoidal peak = half the swing), at every instant.
     fit_excess = coreloss.steinmetz_fit_excess(
-        op.frequency_Hz, b_swing / 2.0, m.f_min_Hz[material][:, None],
+        frequency, b_swing / 2.0, m.f_min_Hz[material][:, None],
         m.f_max_Hz[material][:, None], m.b_max_T[material][:, None],
     ).max(axis=1)
     outside_fit = fit_excess > 0.0
@@ -833,23 +809,32 @@ def magnetic_stage(
         range_violation = np.where(outside_fit, fit_excess, -1.0)
     gap_model = fringing.GAP_RELUCTANCE_MODELS[req.fringing]
     outside_gap = (gap > 0) & gap_model.outside_range(gap, geometry)
+    # Per point: losses averaged over its instants, peaks and swings the largest, the
+    # switching-period figures (DCM, duty) at the instant of the highest peak current.
+    abs_peak = np.abs(peak)
     return {
         "gap_m": gap,
         "bsat_at_limit_T": bsat_hot,
         "inductance_H": inductance0,
         "inductance_at_peak_H": inductance_peak,
-        "peak_flux_T": b_peak_narrow,
-        "flux_swing_T": b_swing,
+        "peak_flux_T": op.most(b_peak_narrow),
+        "flux_swing_T": op.most(b_swing),
         "worst_flux_T": worst_flux,
         "flux_limit_T": flux_limit,
-        "core_loss_reference_W": core_loss_reference,
-        "dc_current_A": dc,
-        "peak_current_A": peak,
-        "ripple_A": ripple,
-        "dcm": dcm,
-        "rise_fraction": rise,
-        "fall_fraction": fall,
+        "core_loss_reference_W": op.mean(instant_core),
+        "dc_current_A": np.sqrt(op.mean(dc * dc)),
+        "peak_current_A": op.most(abs_peak),
+        "ripple_A": op.most(ripple),
+        "dcm": op.most(dcm),
+        "rise_fraction": op.at_worst(rise, abs_peak),
+        "fall_fraction": op.at_worst(fall, abs_peak),
         "harmonics_A": harmonics,
+        "instant_ac_scale": np.where(imposed[None, :], 1.0, ripple * ripple),
+        "instant_dcm": dcm,
+        "instant_core_loss_W": instant_core,
+        "instant_peak_A": peak,
+        "instant_valley_A": valley,
+        "instant_ripple_A": ripple,
         "gap_mmf_share": np.where(gap > 0.0, r_gap / (r_gap + r_core), 0.0),
         "window_inductance_H": np.where(powder, 0.0, n_turns * n_turns * p_window),
         "violation_inductance": inductance_violation,
@@ -858,8 +843,8 @@ def magnetic_stage(
         "violation_material_range": range_violation,
         "outside_material_fit": outside_fit,
         "outside_bias_table": has_bias & np.any(beyond, axis=1),
-        "relaxation_W": relax_density * bias * ve[:, None],
-        "dc_field_A_m": h_dc,
+        "relaxation_W": op.mean(relax_density * bias * ve[:, None]),
+        "dc_field_A_m": op.most(np.abs(h_dc)),
         "outside_gap_model": outside_gap,
     }
 
@@ -973,10 +958,14 @@ def winding_loss_stage(
     harmonic (shape (n, H)) at the two temperatures of `WINDING_REFERENCE_TEMPERATURES_C`,
     for windings laid out by `winding_layout_stage` (row-aligned ``layout``).
 
-    ``winding_ac_unit_{lo,hi}_W`` (n, K) is the AC loss of a CCM triangle of 1 A peak to
-    peak at each point (its shape, the duty ratio, does not depend on the inductance); a
-    design's CCM AC loss is this times its ripple squared. `winding_ac_loss` combines these
-    with each design's own current.
+    ``winding_ac_unit_{lo,hi}_W`` (n, J) is the AC loss of a CCM triangle of 1 A peak to
+    peak at each instant (its shape, the duty ratio, does not depend on the inductance; a
+    unipolar bridge's ripple lies on the even harmonics), or of a waveform file's own
+    current; a design's CCM AC loss is this times its ``instant_ac_scale`` (ripple
+    squared, 1 for a file). `winding_ac_loss` combines these with each design's own
+    current. The DC loss is the resistance times the mean square of the switching-period
+    average current over the point (the line-frequency current of a line-cycle point,
+    whose skin effect at the line's harmonics is neglected).
     """
     op = space.operating
     n_turns = turns.astype(float)
@@ -987,9 +976,8 @@ def winding_loss_stage(
     # The switching frequency is common to all operating points, so the AC factors are
     # evaluated once per winding and weighted by each point's harmonic amplitudes.
     freq = op.frequency_Hz * np.arange(1, n_harm + 1, dtype=float)[None, :]
-    dc_sq = op.dc_A**2
-    ccm_duty = op.fall_V / (op.rise_V + op.fall_V)
-    unit_sq_half = 0.5 * pulse_harmonics(1.0, ccm_duty, 1.0 - ccm_duty, n_harm) ** 2  # (K, H)
+    dc_sq = op.point_dc_sq  # (K,) mean square of the low-frequency current
+    unit_sq_half = 0.5 * op.unit_spectrum**2  # (J, H)
     # The AC factors depend on fewer axes than the winding: not on the stack, nor (round
     # wire, foil) on the turns except through the layer count. Evaluate each distinct
     # (wire, core window, conductors per layer, layers | turns, strands) case once.
@@ -1022,6 +1010,11 @@ def winding_loss_stage(
 HARMONIC_KEYS = (
     "harmonics_A", "harmonic_resistance_lo_ohm", "harmonic_resistance_hi_ohm",
     "gap_harmonic_coefficient_lo_W_per_A2", "gap_harmonic_coefficient_hi_W_per_A2",
+    # Per instant (J): `winding_ac_loss` reads them by row and averages over each point.
+    "instant_ac_scale", "instant_dcm", "instant_core_loss_W", "instant_peak_A",
+    "instant_valley_A", "instant_ripple_A",
+    "winding_ac_unit_lo_W", "winding_ac_unit_hi_W", "winding_gap_unit_lo_W",
+    "winding_gap_unit_hi_W",
 )
 
 
@@ -1031,9 +1024,15 @@ def winding_ac_loss(
     wdg: dict[str, np.ndarray],
     wdg_rows: np.ndarray,
     block: int = 65_536,
+    operating: OperatingArrays | None = None,
+    instants: bool = False,
 ) -> dict[str, np.ndarray]:
     """AC winding loss and gap loss in the winding (n, K) at both reference temperatures of
     the candidates joining magnetic row ``mag_rows[i]`` with winding row ``wdg_rows[i]``.
+
+    Each instant's loss is averaged over its point with ``operating`` (needed when a point
+    has several instants: the line cycle); ``instants=True`` also returns the per-instant
+    losses as ``instant_winding_{ac,gap}_{lo,hi}_W`` (n, J).
 
     CCM: the unit-ripple loss times the design's ripple squared (the triangle's shape is
     fixed by the duty ratio). DCM: the sum over harmonics of R_n c_n^2 / 2 with the design's
@@ -1041,9 +1040,10 @@ def winding_ac_loss(
     The gap loss follows the same split and is scaled by the square of the share of the
     MMF that sits across the gap (``gap_mmf_share``).
     """
-    ripple_sq = mag["ripple_A"][mag_rows] ** 2
-    dcm = mag["dcm"][mag_rows]
+    ripple_sq = mag["instant_ac_scale"][mag_rows]
+    dcm = mag["instant_dcm"][mag_rows]
     share_sq = (mag["gap_mmf_share"][mag_rows] ** 2)[:, None]
+    reduce = (lambda x: x) if operating is None else operating.mean
     out = {}
     for label in ("lo", "hi"):
         loss = wdg[f"winding_ac_unit_{label}_W"][wdg_rows] * ripple_sq
@@ -1057,8 +1057,11 @@ def winding_ac_loss(
                 amp = mag["harmonics_A"][mag_rows[sel], k, :]
                 loss[sel, k] = 0.5 * np.einsum("ih,ih->i", resistance[wdg_rows[sel]], amp * amp)
                 gap[sel, k] = np.einsum("ih,ih->i", coefficient[wdg_rows[sel]], amp * amp)
-        out[f"winding_ac_{label}_W"] = loss
-        out[f"winding_gap_{label}_W"] = gap * share_sq
+        out[f"winding_ac_{label}_W"] = reduce(loss)
+        out[f"winding_gap_{label}_W"] = reduce(gap * share_sq)
+        if instants:
+            out[f"instant_winding_ac_{label}_W"] = loss
+            out[f"instant_winding_gap_{label}_W"] = gap * share_sq
     return out
 
 
@@ -1459,7 +1462,7 @@ def evaluate(space: DesignSpace, candidates: Candidates) -> dict[str, np.ndarray
                                cand.parallel)
     wdg.update(winding_loss_stage(space, cand.turns, cand.wire, cand.parallel, wdg, cand.core))
     rows = np.arange(len(cand))
-    wdg.update(winding_ac_loss(mag, rows, wdg, rows))
+    wdg.update(winding_ac_loss(mag, rows, wdg, rows, operating=space.operating))
     final = combine_stage(space, cand.material, cand.stack, cand.core, cand.turns, mag, wdg,
                           wire=cand.wire)
     metrics = {**mag, **wdg, **final}
@@ -1492,8 +1495,9 @@ def converter_peak_and_rms_A(space: DesignSpace) -> tuple[np.ndarray, np.ndarray
     """Peak and RMS inductor current [A] of each operating point at the required
     inductance (RMS from the DC value and the harmonic amplitudes, Parseval)."""
     op = space.operating
-    rms = np.sqrt(op.dc_A**2 + 0.5 * np.sum(op.harmonics_A**2, axis=1))
-    return op.peak_A, rms
+    mean_square = op.dc_A**2 + 0.5 * np.sum(op.harmonics_A**2, axis=1)
+    rms = np.sqrt(op.mean(mean_square[None, :])[0])
+    return op.most(np.abs(op.peak_A)[None, :])[0], rms
 
 
 def area_product_required_m4(space: DesignSpace, material: np.ndarray) -> np.ndarray:

@@ -42,6 +42,10 @@ TITLE_CHARACTERS = 200
 BOARD_COPPER_MM2 = (0.0, 1e6)
 ENCLOSURE_VOLUME_CM3 = (1.0, 1e7)
 POTTING_THICKNESS_MM = (0.01, 100.0)
+POWER_W = (0.001, 1e7)
+LINE_FREQUENCY_HZ = (1.0, 2000.0)
+LINE_STEPS = (4, 512)
+PHASES_MAX = 64
 
 # --- custom core -----------------------------------------------------------------------
 CUSTOM_DIMENSION_MM = (0.1, 1000.0)

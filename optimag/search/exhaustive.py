@@ -586,7 +586,8 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
     )
     mag_part = {k: v[mag_row] for k, v in mag_out.items() if k not in model.HARMONIC_KEYS}
     wdg_part = {k: v[w_idx] for k, v in layout.items() if k not in model.HARMONIC_KEYS}
-    wdg_part.update(model.winding_ac_loss(mag_out, mag_row, layout, w_idx))
+    wdg_part.update(model.winding_ac_loss(mag_out, mag_row, layout, w_idx,
+                                          operating=space.operating))
     n_all = len(candidates)
     # Exact screen: parts that cannot settle below the temperature limit skip the fixed
     # point; they are counted under "temperature", where the full model puts them too.

@@ -70,6 +70,10 @@ from optimag.ranges import (
     TITLE_CHARACTERS,
     TRIALS,
     TURNS,
+    LINE_FREQUENCY_HZ,
+    LINE_STEPS,
+    PHASES_MAX,
+    POWER_W,
     VOLTAGE_V,
     VOLUME_CM3,
 )
@@ -140,10 +144,27 @@ class StudyInfo(_Section):
 class Converter(_Section):
     """``[converter]``: topology and switching frequency."""
 
-    topology: Literal["buck", "boost", "buck-boost"]
-    """Converter topology; buck-boost is the inverting buck-boost (output magnitude)."""
+    topology: Literal["buck", "boost", "buck-boost", "multiphase-buck", "pfc-boost",
+                      "inverter-filter"]
+    """Converter topology; buck-boost is the inverting buck-boost (output magnitude);
+    multiphase-buck is interleaved buck phases with one uncoupled inductor each (give
+    phases); pfc-boost is a power-factor-correction boost over the line cycle (fixed
+    switching frequency, average current control); inverter-filter is the output filter
+    inductor of a single-phase full-bridge inverter over the line cycle (give
+    modulation)."""
     switching_frequency_kHz: Frequency
-    """Switching frequency, common to every operating point."""
+    """Switching frequency, common to every operating point (the carrier frequency of an
+    inverter bridge)."""
+    phases: Annotated[int, Strict(), Field(ge=2, le=PHASES_MAX)] | None = None
+    """Number of interleaved phases of a multiphase-buck (carriers shifted by one
+    period / phases); each phase's inductor is designed for its share of the load."""
+    modulation: Literal["bipolar", "unipolar"] | None = None
+    """PWM of an inverter-filter bridge: bipolar (output +/-Vdc, ripple at the switching
+    frequency) or unipolar (output 0 or +/-Vdc, ripple at twice the switching
+    frequency)."""
+    line_steps: Annotated[int, Strict(), Field(ge=LINE_STEPS[0], le=LINE_STEPS[1])] = 32
+    """Instants the line cycle is walked with (pfc-boost: over a quarter cycle;
+    inverter-filter: over a half cycle); losses are averaged over them."""
 
 
 class OperatingPoint(_Section):
@@ -151,15 +172,38 @@ class OperatingPoint(_Section):
 
     name: Name
     """Name of the point, unique within the study."""
-    input_V: Voltage
-    """Input voltage at this point."""
-    output_V: Voltage
-    """Output voltage at this point (its magnitude for the inverting buck-boost)."""
-    load_A: Current
-    """Output (load) current at this point."""
+    input_V: Voltage | None = None
+    """Input voltage at this point (buck, boost, buck-boost, multiphase-buck)."""
+    output_V: Voltage | None = None
+    """Output voltage at this point (its magnitude for the inverting buck-boost; the bus
+    voltage of a pfc-boost)."""
+    load_A: Current | None = None
+    """Output (load) current at this point (buck, boost, buck-boost; the total of all
+    phases for a multiphase-buck)."""
     time_share: Fraction
     """Share of the operating time spent at this point; the shares sum to 1. Weights the
     loss objective."""
+    line_V_rms: Voltage | None = None
+    """pfc-boost: line voltage, RMS."""
+    power_W: _bounded(*POWER_W) | None = None
+    """pfc-boost: power drawn from the line (the converter is taken as lossless)."""
+    line_frequency_Hz: _bounded(*LINE_FREQUENCY_HZ) = 50.0
+    """pfc-boost and inverter-filter: line (grid) frequency; sets the time axis of the
+    line-cycle figures (the instants are quasi-static switching periods)."""
+    dc_link_V: Voltage | None = None
+    """inverter-filter: DC link voltage across the bridge, above the grid's peak."""
+    grid_V_rms: Voltage | None = None
+    """inverter-filter: grid voltage, RMS."""
+    grid_A_rms: Current | None = None
+    """inverter-filter: grid current, RMS."""
+    power_factor: Annotated[float, Strict(), AllowInfNan(False), Field(gt=0, le=1)] = 1.0
+    """inverter-filter: cos of the angle between grid current and grid voltage."""
+    current_waveform: Annotated[str, Strict(), StringConstraints(min_length=1,
+                                                                 max_length=4096)] | None = None
+    """buck, boost, buck-boost: a CSV file (relative to the study file) with the header
+    time_s,current_A holding the inductor current over one switching period or several
+    (the last whole period is taken), e.g. from a circuit simulation; replaces input_V,
+    output_V and load_A at this point. Every design sees this current."""
 
 
 class Inductor(_Section):
@@ -487,6 +531,13 @@ class Study(_Section):
         """Switching frequency [Hz]."""
         return self.converter.switching_frequency_kHz * 1e3
 
+    def waveform_path(self, point: OperatingPoint) -> Path | None:
+        """The point's current waveform file, resolved from the study's folder."""
+        if point.current_waveform is None:
+            return None
+        base = self._path.parent if self._path is not None else Path.cwd()
+        return base / Path(point.current_waveform).expanduser()
+
     @property
     def ripple_point(self) -> OperatingPoint | None:
         """The operating point the ripple fraction refers to (None when L is given).
@@ -500,7 +551,7 @@ class Study(_Section):
         if self.inductor.ripple_point is not None:
             return next(p for p in self.operating_points if p.name == self.inductor.ripple_point)
         needed = self._ripple_inductances(self.operating_points)
-        return self.operating_points[int(np.argmax(needed))]
+        return self.operating_points[int(np.nanargmax(needed))]
 
     @property
     def required_inductance_H(self) -> float:
@@ -518,14 +569,62 @@ class Study(_Section):
         return float(self._ripple_inductances((point,))[0])
 
     def _ripple_inductances(self, points: tuple[OperatingPoint, ...]) -> np.ndarray:
-        return ccm_ripple_inductance(
-            self.converter.topology,
-            np.array([p.input_V for p in points]),
-            np.array([p.output_V for p in points]),
-            np.array([p.load_A for p in points]),
-            self.frequency_Hz,
-            self.inductor.ripple_fraction,
-        )
+        return ripple_inductances(self.converter, points, self.inductor.ripple_fraction)
+
+
+#: Keys each topology needs at every operating point (a current_waveform replaces them).
+POINT_KEYS = {
+    "buck": ("input_V", "output_V", "load_A"),
+    "boost": ("input_V", "output_V", "load_A"),
+    "buck-boost": ("input_V", "output_V", "load_A"),
+    "multiphase-buck": ("input_V", "output_V", "load_A"),
+    "pfc-boost": ("line_V_rms", "output_V", "power_W"),
+    "inverter-filter": ("dc_link_V", "grid_V_rms", "grid_A_rms"),
+}
+#: Keys that only some topologies read (besides those of `POINT_KEYS`).
+_OPTIONAL_POINT_KEYS = {
+    "line_frequency_Hz": ("pfc-boost", "inverter-filter"),
+    "power_factor": ("inverter-filter",),
+    "current_waveform": ("buck", "boost", "buck-boost"),
+}
+LINE_CYCLE_TOPOLOGIES = ("pfc-boost", "inverter-filter")
+
+
+def line_instants(converter: Converter, point: OperatingPoint):
+    """The instants of a line-cycle point (`optimag.study.linecycle`)."""
+    from optimag.study import linecycle
+
+    if converter.topology == "pfc-boost":
+        return linecycle.pfc_boost_instants(
+            point.line_V_rms, point.output_V, point.power_W, converter.line_steps)
+    return linecycle.inverter_instants(
+        point.dc_link_V, point.grid_V_rms, point.grid_A_rms, point.power_factor,
+        converter.modulation, converter.line_steps)
+
+
+def ripple_inductances(converter: Converter, points, ripple_fraction: float) -> np.ndarray:
+    """Inductance [H] each point needs for the ripple fraction (NaN for a point given by a
+    current waveform): the CCM relation of the converter (per phase for a multiphase
+    buck), or for a line-cycle point the largest ripple over the line cycle against the
+    peak line current (`optimag.study.linecycle.line_ripple_inductance`)."""
+    from optimag.study import linecycle
+
+    frequency = converter.switching_frequency_kHz * 1e3
+    out = np.full(len(points), np.nan)
+    for index, point in enumerate(points):
+        if point.current_waveform is not None:
+            continue
+        if converter.topology in LINE_CYCLE_TOPOLOGIES:
+            out[index] = linecycle.line_ripple_inductance(
+                line_instants(converter, point), frequency, ripple_fraction)
+            continue
+        topology = converter.topology
+        load = point.load_A
+        if topology == "multiphase-buck":
+            topology, load = "buck", load / (converter.phases or 1)
+        out[index] = float(ccm_ripple_inductance(
+            topology, point.input_V, point.output_V, load, frequency, ripple_fraction))
+    return out
 
 
 _SECTION_MODELS: dict[str, type[_Section]] = {
@@ -654,6 +753,9 @@ def parse_study(
             )
 
     problems.extend(problem(field, message) for field, message in _consistency_faults(sections))
+    if not problems and sections.get("converter") is not None:
+        problems.extend(_waveform_problems(
+            sections["operating_points"], sections["converter"], file.parent, problem))
     if problems:
         raise InputError(problems)
 
@@ -829,9 +931,31 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
             )
 
     if points and converter:
+        point_faults = _point_faults(converter, points)
+        faults.extend(point_faults)
+        if point_faults:
+            points = None
+    if points and converter:
         for index, point in enumerate(points):
             field = f"operating_points[{index}].output_V"
             vi, vo = point.input_V, point.output_V
+            if point.current_waveform is not None:
+                continue
+            if converter.topology == "pfc-boost" and not vo > np.sqrt(2) * point.line_V_rms:
+                faults.append((field, (
+                    f"a PFC boost steps up from the rectified line: output_V must be above "
+                    f"the line peak ({np.sqrt(2) * point.line_V_rms:.4g} V); got "
+                    f"{vo:g} V at point '{point.name}'")))
+            if (converter.topology == "inverter-filter"
+                    and not point.dc_link_V > np.sqrt(2) * point.grid_V_rms):
+                faults.append((f"operating_points[{index}].dc_link_V", (
+                    f"the bridge cannot reach the grid peak "
+                    f"({np.sqrt(2) * point.grid_V_rms:.4g} V) from dc_link_V = "
+                    f"{point.dc_link_V:g} V at point '{point.name}'")))
+            if converter.topology == "multiphase-buck" and not vo < vi:
+                faults.append((field, (
+                    f"a buck steps down: output_V must be below input_V; got output_V = "
+                    f"{vo:g} V, input_V = {vi:g} V at point '{point.name}'")))
             if converter.topology == "buck" and not vo < vi:
                 faults.append(
                     (
@@ -885,17 +1009,17 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
         and converter
         and not faults
     ):
-        needed_uH = 1e6 * ccm_ripple_inductance(
-            converter.topology,
-            np.array([p.input_V for p in points]),
-            np.array([p.output_V for p in points]),
-            np.array([p.load_A for p in points]),
-            converter.switching_frequency_kHz * 1e3,
-            inductor.ripple_fraction,
-        )
+        needed_uH = 1e6 * ripple_inductances(converter, points, inductor.ripple_fraction)
         if inductor.ripple_point is not None:
             needed_uH = needed_uH[[p.name for p in points].index(inductor.ripple_point)]
-        needed = float(np.max(needed_uH))
+        needed = float(np.nanmax(needed_uH)) if np.any(np.isfinite(needed_uH)) else math.nan
+        if math.isnan(needed):
+            faults.append((
+                "inductor.ripple_fraction",
+                "every point used is a current_waveform, which has no converter to derive "
+                "an inductance from; give inductance_uH",
+            ))
+            needed = 1.0
         low, high = INDUCTANCE_UH
         if not low <= needed <= high:
             faults.append(
@@ -958,6 +1082,70 @@ def _consistency_faults(sections: Mapping[str, Any]) -> list[tuple[str, str]]:
                 )
             )
     return faults
+
+
+def _point_faults(converter: Converter, points) -> list[tuple[str, str]]:
+    """Each point gives the keys its topology reads, and no others; the converter gives
+    phases (multiphase-buck) and modulation (inverter-filter) only where they apply."""
+    faults: list[tuple[str, str]] = []
+    topology = converter.topology
+    for key, needed_by in (("phases", ("multiphase-buck",)),
+                           ("modulation", ("inverter-filter",))):
+        given = getattr(converter, key) is not None
+        if topology in needed_by and not given:
+            faults.append((f"converter.{key}", f'required when topology = "{topology}"'))
+        elif topology not in needed_by and given:
+            faults.append((f"converter.{key}", (
+                f'applies only with topology = "{needed_by[0]}"; this study has '
+                f'topology = "{topology}"')))
+    electrical = {key for keys in POINT_KEYS.values() for key in keys}
+    for index, point in enumerate(points):
+        prefix = f"operating_points[{index}]"
+        given = set(point.model_fields_set)
+        wanted = set(POINT_KEYS[topology])
+        if point.current_waveform is not None:
+            if topology not in _OPTIONAL_POINT_KEYS["current_waveform"]:
+                faults.append((f"{prefix}.current_waveform", (
+                    f"a current waveform replaces a DC-DC point (buck, boost, buck-boost); "
+                    f'topology = "{topology}" has none')))
+                continue
+            wanted = set()
+        for key in sorted(wanted - given):
+            faults.append((f"{prefix}.{key}", f'required when topology = "{topology}"'
+                           + (" (or give current_waveform)"
+                              if topology in _OPTIONAL_POINT_KEYS["current_waveform"] else "")))
+        for key in sorted(given & (electrical | set(_OPTIONAL_POINT_KEYS)) - wanted):
+            if key == "current_waveform" and point.current_waveform is not None:
+                continue
+            users = _OPTIONAL_POINT_KEYS.get(key)
+            if users is not None and topology in users and point.current_waveform is None:
+                continue
+            reason = ("a point given by current_waveform takes no converter keys"
+                      if point.current_waveform is not None
+                      else f'topology = "{topology}" does not read it')
+            faults.append((f"{prefix}.{key}", reason))
+    return faults
+
+
+def _waveform_problems(study_points, converter, study_dir: Path, problem) -> list[Problem]:
+    """Read every point's current waveform file; its problems name the CSV file and line."""
+    from optimag.study.waveform_file import read_current_waveform
+
+    problems: list[Problem] = []
+    for index, point in enumerate(study_points):
+        if point.current_waveform is None:
+            continue
+        path = study_dir / Path(point.current_waveform).expanduser()
+        if not path.is_file():
+            problems.append(problem(f"operating_points[{index}].current_waveform", (
+                f"waveform file '{point.current_waveform}' not found (looked for {path}; "
+                "the path is relative to the study file)")))
+            continue
+        try:
+            read_current_waveform(path, converter.switching_frequency_kHz * 1e3)
+        except InputError as error:
+            problems.extend(error.problems)
+    return problems
 
 
 def _cooling_faults(cooling: Cooling, limits: Limits | None, choices: Any) -> list:

@@ -61,6 +61,16 @@ UNIT_OVERRIDES = {
 CROSS_KEY_RULES = (
     "The operating points' `time_share` values sum to 1; their names are distinct.",
     "A buck has `output_V` below `input_V` at every point; a boost above.",
+    "Each operating point gives the keys its topology reads and no others: `input_V`, "
+    "`output_V`, `load_A` (buck, boost, buck-boost, multiphase-buck); `line_V_rms`, "
+    "`output_V` above the line peak, `power_W` (pfc-boost); `dc_link_V` above the grid "
+    "peak, `grid_V_rms`, `grid_A_rms`, optionally `power_factor` (inverter-filter); or "
+    "`current_waveform` alone (buck, boost, buck-boost). `[converter] phases` is required "
+    "for multiphase-buck and `modulation` for inverter-filter, neither elsewhere.",
+    "A `current_waveform` file is CSV with the header `time_s,current_A`, at least 3 "
+    "samples, time increasing, finite numbers, spanning at least one switching period; "
+    "its last whole period must end at the current it starts with (within 2 % of its "
+    "peak to peak).",
     "`[inductor]` gives `inductance_uH` or `ripple_fraction` (optionally with "
     "`ripple_point`, which must name an operating point), not both; with neither, "
     f"`ripple_fraction = {DEFAULT_RIPPLE_FRACTION}` applies.",

@@ -325,6 +325,7 @@ def current_shape_from_voltages(
     average_A: ArrayLike,
     frequency_Hz: ArrayLike,
     inductance_H: ArrayLike,
+    allow_dcm: ArrayLike = True,
 ) -> InductorCurrentShape:
     """Inductor current of any of the three converters from its inductor voltages, CCM or DCM.
 
@@ -335,6 +336,8 @@ def current_shape_from_voltages(
     average_A : array_like  Average inductor current the load demands, >= 0 [A]
     frequency_Hz : array_like  Switching frequency, > 0 [Hz]
     inductance_H : array_like  Inductance, > 0 [H]
+    allow_dcm : array_like of bool  False where the switches conduct both ways (a bridge):
+        the current then stays a triangle that may cross zero (valley below 0) [-]
 
     Returns
     -------
@@ -366,7 +369,7 @@ def current_shape_from_voltages(
 
     ccm_duty = fall_V / (rise_V + fall_V)
     ccm_ripple = rise_V * ccm_duty / (inductance * frequency)
-    dcm = ccm_ripple / 2.0 > average_A
+    dcm = (ccm_ripple / 2.0 > average_A) & np.asarray(allow_dcm, dtype=bool)
 
     dcm_rise = np.sqrt(
         2.0 * inductance * frequency * average_A * fall_V / (rise_V * (rise_V + fall_V))
