@@ -293,8 +293,8 @@ class OperatingArrays:
         peak for the peak current): (n, J) -> (n, K)."""
         if self.single:
             return values
-        out = np.empty(values.shape[:-1] + (self.n_points,), dtype=values.dtype)
-        bounds = list(self.starts) + [self.n_instants]
+        out = np.empty((*values.shape[:-1], self.n_points), dtype=values.dtype)
+        bounds = [*self.starts, self.n_instants]
         for k in range(self.n_points):
             part = worst[..., bounds[k]:bounds[k + 1]]
             pick = np.argmax(part, axis=-1)[..., None] + bounds[k]

@@ -56,7 +56,8 @@ def test_reference_rows_show_ranges_and_defaults():
     assert "| `max_volume_cm3` | number | cm³ | absent | >= 0.001, <= 1e+06 |" in text
     assert "| `max_mass_g` | number | g | absent | >= 0.001, <= 1e+06 |" in text
     assert "| `harmonics` | whole number | - | 25 | >= 15, <= 200 |" in text
-    assert '| `topology` | text | - | required | one of "buck", "boost", "buck-boost", "multiphase-buck", "pfc-boost", "inverter-filter" |' in text
+    assert ('| `topology` | text | - | required | one of "buck", "boost", "buck-boost", '
+            '"multiphase-buck", "pfc-boost", "inverter-filter" |') in text
 
 
 def _write(folder: Path, text: str) -> Path:
