@@ -1592,6 +1592,39 @@ def inductance_curve(
     return inductance
 
 
+def line_cycle_profile(
+    space: DesignSpace, candidates: Candidates, metrics: dict[str, np.ndarray], i: int
+) -> dict[str, np.ndarray]:
+    """Where along the line cycle evaluated design ``i`` (row of ``metrics`` from
+    `evaluate`) loses its power: per instant (J,) its peak and valley current, DCM, and the
+    core and winding loss (DC, AC and gap) at its point's settled temperature [W], the
+    same figures the point's averages are made of."""
+    op = space.operating
+    rows = np.array([i])
+    per_instant = winding_ac_loss(metrics, rows, metrics, rows, operating=op, instants=True)
+    temperature = np.where(metrics["runaway"][i], space.requirements.max_temperature_C,
+                           metrics["temperature_C"][i])[op.point]
+    t_lo, t_hi = WINDING_REFERENCE_TEMPERATURES_C
+    fraction = (temperature - t_lo) / (t_hi - t_lo)
+    rdc_lo = metrics["dc_resistance_20C_ohm"][i] * float(
+        winding.copper_resistivity(t_lo)) / COPPER_RESISTIVITY_20C
+    rdc_hi = metrics["dc_resistance_20C_ohm"][i] * float(
+        winding.copper_resistivity(t_hi)) / COPPER_RESISTIVITY_20C
+    dc_sq = op.dc_A**2
+    lo = rdc_lo * dc_sq + per_instant["instant_winding_ac_lo_W"][0] \
+        + per_instant["instant_winding_gap_lo_W"][0]
+    hi = rdc_hi * dc_sq + per_instant["instant_winding_ac_hi_W"][0] \
+        + per_instant["instant_winding_gap_hi_W"][0]
+    ct = metrics["core_loss_temperature_factor"][i][op.point]
+    return {
+        "peak_A": metrics["instant_peak_A"][i],
+        "valley_A": metrics["instant_valley_A"][i],
+        "dcm": metrics["instant_dcm"][i],
+        "core_loss_W": metrics["instant_core_loss_W"][i] * ct,
+        "winding_loss_W": lo + fraction * (hi - lo),
+    }
+
+
 #: Whole-part laws for still free air, applicable as alternatives in "free_air" only.
 FREE_AIR_ALTERNATIVES = ("convection", "mclyman", "ferrite_rth")
 

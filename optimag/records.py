@@ -233,21 +233,35 @@ register(
     _f("mlt_mm", "mm", "MLT", "Mean length of one turn"),
     _f("copper_area_mm2", "mm²", "Copper area", "Copper section of one turn, all parallel"),
     _f("frequency_kHz", "kHz", "Switching frequency", "Switching frequency", 3, "point"),
-    _f("dc_current_A", "A", "DC current", "Average inductor current at the point", 3,
-       "point"),
-    _f("ripple_A", "A", "Ripple", "Peak-to-peak ripple at this design's inductance", 3,
-       "point"),
+    _f("dc_current_A", "A", "DC current",
+       "Average inductor current at the point; over a line cycle the RMS of the "
+       "switching-period average (the line-frequency current)", 3, "point"),
+    _f("ripple_A", "A", "Ripple",
+       "Peak-to-peak ripple at this design's inductance; over a line cycle its largest",
+       3, "point"),
     _f("duty", "", "Rise fraction",
-       "Share of the period this design's current rises (D1)", 3, "point"),
+       "Share of the period this design's current rises (D1); over a line cycle at the "
+       "line peak", 3, "point"),
     _f("fall_fraction", "", "Fall fraction",
        "Share of the period this design's current falls (D2; 1 - D1 in CCM)", 3, "point"),
     _f("idle_fraction", "", "Idle fraction",
        "Share of the period this design's current stays at zero (1 - D1 - D2; 0 in CCM)",
        3, "point"),
-    _f("input_V", "V", "Input voltage", "Converter input voltage at the point", 3, "point"),
-    _f("output_V", "V", "Output voltage", "Converter output voltage at the point", 3,
-       "point"),
-    _f("load_A", "A", "Load current", "Converter load current at the point", 3, "point"),
+    _f("input_V", "V", "Input voltage",
+       "Converter input voltage at the point (pfc-boost: line RMS; inverter-filter: DC "
+       "link; 0 for a current waveform file)", 3, "point"),
+    _f("output_V", "V", "Output voltage",
+       "Converter output voltage at the point (inverter-filter: grid RMS)", 3, "point"),
+    _f("load_A", "A", "Load current",
+       "Converter load current at the point (all phases of a multiphase buck; "
+       "inverter-filter: grid RMS current)", 3, "point"),
+    _f("output_ripple_A", "A", "Output ripple",
+       "Multiphase buck: peak-to-peak of the summed phase currents (this design's phase "
+       "current, the phases shifted by one period / phases)", 3, "point"),
+    _f("ripple_cancellation", "", "Ripple cancellation",
+       "Multiphase buck: output ripple over one phase's ripple for interleaved CCM phases, "
+       "K(D, N) in closed form", 3, "point"),
+    _f("phases", "", "Phases", "Interleaved phases (multiphase buck; 1 otherwise)", None),
     _f("steinmetz_k", "", "Steinmetz k", "Steinmetz k [W/m³ with f in Hz, B in T]", 4),
     _f("steinmetz_alpha", "", "Steinmetz α", "Steinmetz frequency exponent", 4),
     _f("steinmetz_beta", "", "Steinmetz β", "Steinmetz flux exponent", 4),
@@ -319,11 +333,17 @@ RECORD_FIELDS = (
     "inductance_curve", "winding", "parts", "model_notes", "tolerance",
 )
 
+#: Fields a record carries since the line-cycle and multiphase topologies (a report of an
+#: older run folder has none of them): ``phases`` and ``line_cycle`` (per line-cycle
+#: point, its instants for the report's line-cycle figure; empty otherwise).
+LATER_RECORD_FIELDS = ("phases", "line_cycle")
+
 #: Figures of each per_operating_point entry (besides ``inputs``).
 POINT_FIELDS = (
     "name", "time_share", "core_loss_W", "winding_dc_loss_W", "winding_ac_loss_W",
     "winding_gap_loss_W", "total_loss_W", "peak_flux_T", "flux_swing_T", "peak_current_A",
-    "temperature_C", "hotspot_temperature_C", "dcm",
+    "temperature_C", "hotspot_temperature_C", "dcm", "output_ripple_A",
+    "ripple_cancellation",
 )
 
 #: Fields of an ``inputs`` object (a record's is the one of its operating point).
@@ -634,6 +654,7 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
                 else float(metrics["hotspot_temperature_C"][i, k])
             ),
             "dcm": bool(metrics["dcm"][i, k]),
+            **_interleaving(op, metrics, i, k),
             "inputs": _inputs(space, candidates, metrics, details, i, k),
         })
     at = per_point[hot]
@@ -744,6 +765,8 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
             "build_mm": float(metrics["build_m"][i] * 1e3),
         },
     }
+    record["phases"] = int(op.phases)
+    record["line_cycle"] = line_cycle_part(space, candidates, metrics, i)
     record["parts"] = parts_list(record)
     flags = model.model_flag_names(metrics, i)
     record["model_flags"] = ";".join(flags)
@@ -756,6 +779,53 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
         record["worst_constraint"] = model.CONSTRAINTS[worst]
         record["worst_violation"] = float(viol[worst])
     return record
+
+
+def _interleaving(op, metrics, i: int, k: int) -> dict:
+    """Output ripple and its cancellation factor of a multiphase buck's point (empty for
+    other topologies)."""
+    if op.phases <= 1:
+        return {}
+    from optimag.study.linecycle import interleaved_ripple_factor
+    from optimag.study.operating import interleaved_output_ripple
+
+    duty = float(op.fall_V[k] / (op.rise_V[k] + op.fall_V[k]))
+    ripple = float(metrics["ripple_A"][i, k])
+    dcm = bool(metrics["dcm"][i, k])
+    rise, fall = float(metrics["rise_fraction"][i, k]), float(metrics["fall_fraction"][i, k])
+    return {
+        "output_ripple_A": interleaved_output_ripple(
+            rise, ripple, op.phases, fall=fall if dcm else None),
+        "ripple_cancellation": float(interleaved_ripple_factor(duty, op.phases)),
+    }
+
+
+def line_cycle_part(space, candidates, metrics, i: int) -> list[dict]:
+    """Per line-cycle point: the instants' angle, time, line voltage, average, peak and
+    valley current, and core and winding loss at the point's settled temperature, for the
+    report's line-cycle figure (empty for other topologies)."""
+    op = space.operating
+    if not op.line_cycle:
+        return []
+    profile = model.line_cycle_profile(space, candidates, metrics, i)
+    out = []
+    for k, name in enumerate(op.names):
+        rows = op.point == k
+        line_hz = float(op.line_frequency_Hz[k])
+        angle = op.angle_rad[rows]
+        out.append({
+            "name": name,
+            "angle_deg": [float(v) for v in np.degrees(angle)],
+            "time_ms": [float(v) for v in angle / (2 * np.pi * line_hz) * 1e3],
+            "line_V": [float(v) for v in op.line_V[rows]],
+            "average_A": [float(v) for v in op.dc_A[rows]],
+            "peak_A": [float(v) for v in profile["peak_A"][rows]],
+            "valley_A": [float(v) for v in profile["valley_A"][rows]],
+            "dcm": [bool(v) for v in profile["dcm"][rows]],
+            "core_loss_W": [float(v) for v in profile["core_loss_W"][rows]],
+            "winding_loss_W": [float(v) for v in profile["winding_loss_W"][rows]],
+        })
+    return out
 
 
 def _model_notes(space, candidates, metrics, i, flags: list[str], runaway_models=()

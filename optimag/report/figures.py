@@ -689,3 +689,45 @@ def field_check_figure(result: dict[str, Any]) -> Figure:
                           f"{result['peak_current_A']:.3g} A (gap {result['gap_mm']:.3g} mm)",
                   "font": {"size": 13}},
     }})
+
+
+def line_cycle_figure(record: dict[str, Any]) -> Figure:
+    """The inductor current over the line cycle at the record's operating point (average,
+    and the switching ripple's peak and valley envelopes) and where the loss arises along
+    it (core and winding loss of each instant, at the point's settled temperature)."""
+    parts = {part["name"]: part for part in record.get("line_cycle") or []}
+    part = parts.get(record["operating_point"]) or next(iter(parts.values()), None)
+    if part is None:
+        raise ValueError("not a line-cycle design")
+    time = np.asarray(part["time_ms"], dtype=float)
+    traces = [
+        trace("bar", x=time, y=part["core_loss_W"], name="core loss", yaxis="y2",
+               marker={"color": style.TEAL_LIGHT}, opacity=0.45,
+               hovertemplate="%{x:.2f} ms: core %{y:.3g} W<extra></extra>"),
+        trace("bar", x=time, y=part["winding_loss_W"], name="winding loss", yaxis="y2",
+               marker={"color": style.COPPER}, opacity=0.45,
+               hovertemplate="%{x:.2f} ms: winding %{y:.3g} W<extra></extra>"),
+        trace("scatter", x=time, y=part["peak_A"], mode="lines", name="ripple peak",
+                   line={"color": style.OCHRE, "width": 1.2},
+                   hovertemplate="%{x:.2f} ms: peak %{y:.3g} A<extra></extra>"),
+        trace("scatter", x=time, y=part["valley_A"], mode="lines", name="ripple valley",
+                   line={"color": style.OCHRE, "width": 1.2}, fill="tonexty",
+                   fillcolor="rgba(201,138,27,0.18)",
+                   hovertemplate="%{x:.2f} ms: valley %{y:.3g} A<extra></extra>"),
+        trace("scatter", x=time, y=part["average_A"], mode="lines", name="average",
+                   line={"color": style.TEAL, "width": 2.5},
+                   hovertemplate="%{x:.2f} ms: average %{y:.3g} A<extra></extra>"),
+    ]
+    return _styled(
+        traces,
+        height=340,
+        barmode="stack",
+        xaxis={"title": {
+            "text": f"time in the line cycle [ms] ({plot_text(part['name'])})"}},
+        yaxis={"title": {"text": "inductor current [A]"}, "rangemode": "tozero"},
+        yaxis2={"title": {"text": "loss at that instant [W]", "standoff": 8},
+                "overlaying": "y", "side": "right", "rangemode": "tozero",
+                "showgrid": False},
+        legend={"orientation": "h", "y": -0.3, "x": 0},
+        margin={"b": 90, "r": 80},
+    )

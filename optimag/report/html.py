@@ -521,6 +521,14 @@ def _build_sheet(record: dict[str, Any], currency: str, slots: _FigureSlots,
         f'<div class="grid">{parts}<div class="stack">{drawing}{headroom}</div>'
         f"{losses_panel}{inductance_panel}{_production_scatter(record, slots)}</div>"
     )
+    if record.get("line_cycle"):
+        layout += _card(
+            "Over the line cycle",
+            slots.render(figures.line_cycle_figure(record), "line-cycle"),
+            "The current's switching-period average and its ripple envelope (peak and "
+            "valley) along the repeating part of the line cycle, and the core and winding "
+            "loss each instant contributes (their mean is the point's loss).",
+        )
     if check is not None:
         layout += _field_check_panel(check, slots)
     notes = record.get("model_notes") or []

@@ -7,7 +7,8 @@ points, inductor, limits, objectives, design-space bounds, model choices, cost,
 hashes all of them; it leaves out only what does not change a figure: the study's name
 and title, the strategy and the optuna run settings (trials, seed, sampler, batch size),
 the catalogue's path (its content hash stands for it) and the currency label. A key a
-later version adds to the study counts automatically.
+later version adds to the study counts automatically. A point's current-waveform file
+counts by its content hash.
 """
 
 from __future__ import annotations
@@ -38,12 +39,24 @@ def fingerprint_content(study, catalog) -> dict[str, Any]:
         if isinstance(value, dict):
             value = {k: v for k, v in value.items() if (section, k) not in IGNORED_KEYS}
         content[section] = value
-    return {
+    out = {
         "scheme": FINGERPRINT_SCHEME,
         "optimag_version": __version__,
         "catalog_hash": str(catalog.content_hash),
         "study": content,
     }
+    # A current-waveform file decides its point's figures by its content, not its name.
+    waveforms = {}
+    for point in getattr(study, "operating_points", ()):
+        if getattr(point, "current_waveform", None):
+            try:
+                data = study.waveform_path(point).read_bytes()
+            except OSError:
+                data = b""
+            waveforms[point.name] = hashlib.sha256(data).hexdigest()
+    if waveforms:
+        out["waveform_hashes"] = waveforms
+    return out
 
 
 def study_fingerprint(study, catalog) -> str:
@@ -61,6 +74,8 @@ def fingerprint_changes(old: dict[str, Any] | None, new: dict[str, Any]) -> list
     changes = []
     if old.get("catalog_hash") != new.get("catalog_hash"):
         changes.append("the catalogue")
+    if old.get("waveform_hashes") != new.get("waveform_hashes"):
+        changes.append("a current-waveform file")
     if old.get("optimag_version") != new.get("optimag_version") or \
             old.get("scheme") != new.get("scheme"):
         changes.append("the optimag version")

@@ -772,7 +772,7 @@ def runnable_study_text(study: Study, content_hash: str) -> str:
     included, is kept as written. Where the catalogue is not written as a plain
     ``[catalog]`` table (an inline table, dotted keys), a comment at the top records the
     path and hash instead."""
-    text = study.source_text
+    text = _absolute_waveform_paths(study)
     folder = str(study.catalog.path)
     lines = text.splitlines(keepends=True)
     index = _LineIndex(text)
@@ -804,6 +804,34 @@ def runnable_study_text(study: Study, content_hash: str) -> str:
     return (
         f"# Run with the catalogue {folder} (content sha256 {content_hash}).\n" + text
     )
+
+
+def _absolute_waveform_paths(study: Study) -> str:
+    """The study's text with each ``current_waveform = "..."`` line given the file's
+    absolute path, so a run folder's copy finds the files it was run with (a line that
+    cannot be rewritten safely is left as written)."""
+    text = study.source_text
+    index = _LineIndex(text)
+    lines = text.splitlines(keepends=True)
+    changed = False
+    for position, point in enumerate(study.operating_points):
+        if point.current_waveform is None:
+            continue
+        number = index.lines.get(("operating_points", position, "current_waveform"))
+        if number is None or not re.match(r"\s*current_waveform\s*=", lines[number - 1]):
+            continue
+        ending = "\r\n" if lines[number - 1].endswith("\r\n") else "\n"
+        absolute = str(study.waveform_path(point).resolve())
+        lines[number - 1] = f"current_waveform = {_toml_string(absolute)}{ending}"
+        changed = True
+    if not changed:
+        return text
+    candidate = "".join(lines)
+    try:
+        tomllib.loads(candidate)
+    except tomllib.TOMLDecodeError:
+        return text
+    return candidate
 
 
 def _toml_string(text: str) -> str:

@@ -322,15 +322,18 @@ def _file_instant(k: int, wave: CurrentWaveform) -> dict:
             "waveform": wave}
 
 
-def interleaved_output_ripple(duty: float, ripple_A: float, phases: int,
-                              samples: int = 4096) -> float:
-    """Peak-to-peak of the sum of ``phases`` CCM triangles of ``ripple_A`` peak to peak at
-    duty ``duty``, shifted by one period / phases (numerical, one period sampled) [A]."""
+def interleaved_output_ripple(rise: float, ripple_A: float, phases: int,
+                              fall: float | None = None, samples: int = 4096) -> float:
+    """Peak-to-peak of the sum of ``phases`` equal phase currents shifted by one period /
+    phases (numerical, one period sampled) [A]: each a triangle rising for ``rise`` of the
+    period and falling for ``fall`` (default ``1 - rise``, CCM), zero for the rest (DCM),
+    of ``ripple_A`` peak to peak."""
+    fall = 1.0 - rise if fall is None else fall
     t = np.arange(samples) / samples
     total = np.zeros(samples)
     for q in range(phases):
         x = (t - q / phases) % 1.0
-        total += np.where(x < duty, x / duty, (1.0 - x) / (1.0 - duty)) * ripple_A
+        total += np.interp(x, [0.0, rise, rise + fall, 1.0], [0.0, 1.0, 0.0, 0.0]) * ripple_A
     return float(np.ptp(total))
 
 
