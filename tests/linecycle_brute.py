@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from optimag import model
-from optimag.physics import coreloss, winding
+from optimag.physics import ac_resistance, coreloss, winding
 
 
 def design_curves(space, cand, peak_A: float, points: int = 4001):
@@ -143,7 +143,7 @@ def winding_loss_W(space, cand, metrics, times_uniform, current_uniform, rho,
     if count % 2 == 0:
         amplitude[-1] = np.abs(spectrum[-1])
     rdc = float(metrics["dc_resistance_20C_ohm"][0]) * rho / winding.copper_resistivity(20.0)
-    factor = winding.round_wire_ac_factor(
+    factor = ac_resistance.round_wire_ac_factor(
         freq[1:], rho, w.bare_diameter_m[cand.wire[0]], metrics["conductors_per_layer"][0],
         c.breadth_m[cand.core[0]], metrics["layers"][0])
     per_bin = rdc * np.concatenate([[amplitude[0] ** 2], 0.5 * factor * amplitude[1:] ** 2])
