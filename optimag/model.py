@@ -1024,15 +1024,16 @@ def winding_ac_loss(
     wdg: dict[str, np.ndarray],
     wdg_rows: np.ndarray,
     block: int = 65_536,
-    operating: OperatingArrays | None = None,
+    *,
+    operating: OperatingArrays,
     instants: bool = False,
 ) -> dict[str, np.ndarray]:
     """AC winding loss and gap loss in the winding (n, K) at both reference temperatures of
     the candidates joining magnetic row ``mag_rows[i]`` with winding row ``wdg_rows[i]``.
 
-    Each instant's loss is averaged over its point with ``operating`` (needed when a point
-    has several instants: the line cycle); ``instants=True`` also returns the per-instant
-    losses as ``instant_winding_{ac,gap}_{lo,hi}_W`` (n, J).
+    Each instant's loss is averaged over its point with ``operating`` (the design space's
+    `OperatingArrays`; a line-cycle point has several instants); ``instants=True`` also
+    returns the per-instant losses as ``instant_winding_{ac,gap}_{lo,hi}_W`` (n, J).
 
     CCM: the unit-ripple loss times the design's ripple squared (the triangle's shape is
     fixed by the duty ratio). DCM: the sum over harmonics of R_n c_n^2 / 2 with the design's
@@ -1043,7 +1044,7 @@ def winding_ac_loss(
     ripple_sq = mag["instant_ac_scale"][mag_rows]
     dcm = mag["instant_dcm"][mag_rows]
     share_sq = (mag["gap_mmf_share"][mag_rows] ** 2)[:, None]
-    reduce = (lambda x: x) if operating is None else operating.mean
+    reduce = operating.mean
     out = {}
     for label in ("lo", "hi"):
         loss = wdg[f"winding_ac_unit_{label}_W"][wdg_rows] * ripple_sq

@@ -297,7 +297,8 @@ def _evaluate_pairs(space, mag, mag_out, mag_viol, mag_bad, m_idx, layout, w_vio
     )
     mag_part = {k: v[m_idx] for k, v in mag_out.items() if k not in model.HARMONIC_KEYS}
     wdg_part = {k: v[w_idx] for k, v in layout.items() if k not in model.HARMONIC_KEYS}
-    wdg_part.update(model.winding_ac_loss(mag_out, m_idx, layout, w_idx))
+    wdg_part.update(model.winding_ac_loss(mag_out, m_idx, layout, w_idx,
+                                          operating=space.operating))
     n = len(candidates)
     n_final = len(model.FINAL_CONSTRAINTS)
     final_viol = np.full((n, n_final), np.inf)
