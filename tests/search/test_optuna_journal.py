@@ -64,6 +64,8 @@ def test_a_line_still_being_written_is_left_for_later(tmp_path):
         file.write(b':3}\n')
     assert [log["n"] for log in journal.read_logs(2)] == [3]
     assert [log["n"] for log in journal.read_logs(0)] == [1, 2, 3]
+    journal.sync()  # waits for a flush under way, then flushes what is left
+    assert not journal.unsynced
 
 
 def test_a_damaged_line_is_named(tmp_path):

@@ -8,9 +8,9 @@ two ways that make a persisted trial nearly as cheap as one in memory:
 * appends are serialised between processes by an ``fcntl`` lock on the file itself (the
   kernel drops it when a process dies, so a killed run never leaves a stale lock);
 * a write reaches the operating system at once (a killed process loses nothing it
-  wrote), but the file is flushed to the disk (``fsync``) at most every
-  `SYNC_INTERVAL_S` seconds, by `sync` and when the process exits, not after every
-  operation: a power cut may lose the last half second of trials, which a resumed run
+  wrote), but the file is flushed to the disk (``fsync``) by a background thread at
+  most every `SYNC_INTERVAL_S` seconds, by `sync` and when the process exits, not after
+  every operation: a power cut may lose the last second of trials, which a resumed run
   asks again.
 
 Several processes on one machine (or one shared file system with working locks) may
@@ -24,6 +24,7 @@ import contextlib
 import fcntl
 import json
 import os
+import threading
 import time
 from collections.abc import Iterator
 from pathlib import Path
@@ -50,6 +51,8 @@ class JournalFile(BaseJournalBackend):
         self.offsets: dict[int, int] = {0: 0}
         self.synced_at = time.monotonic()
         self.unsynced = False
+        #: Held while a flush to the disk runs.
+        self.flushing = threading.Lock()
         atexit.register(self.sync_at_exit)
 
     def read_logs(self, log_number_from: int) -> Iterator[dict[str, Any]]:
@@ -82,24 +85,38 @@ class JournalFile(BaseJournalBackend):
                 written = os.write(descriptor, data)
                 data = data[written:]
             self.unsynced = True
-            if time.monotonic() - self.synced_at >= SYNC_INTERVAL_S:
-                os.fsync(descriptor)
-                self.synced_at, self.unsynced = time.monotonic(), False
         finally:
             os.close(descriptor)  # closing releases the lock
+        if (time.monotonic() - self.synced_at >= SYNC_INTERVAL_S
+                and self.flushing.acquire(blocking=False)):
+            self.synced_at, self.unsynced = time.monotonic(), False
+            threading.Thread(target=flush_file, args=(self.path, self.flushing),
+                             daemon=True).start()
 
     def sync(self) -> None:
-        """Flush what this process wrote to the disk now."""
-        if not self.unsynced:
-            return
-        descriptor = os.open(self.path, os.O_RDONLY | os.O_NOFOLLOW)
-        try:
-            os.fsync(descriptor)
-        finally:
-            os.close(descriptor)
-        self.synced_at, self.unsynced = time.monotonic(), False
+        """Flush what this process wrote to the disk now (after a flush under way)."""
+        with self.flushing:
+            if self.unsynced:
+                self.synced_at, self.unsynced = time.monotonic(), False
+                flush_file(self.path)
 
     def sync_at_exit(self) -> None:
         """`sync`, for the end of the process (a journal removed meanwhile is let be)."""
         with contextlib.suppress(OSError):
             self.sync()
+
+
+def flush_file(path: str, done: threading.Lock | None = None) -> None:
+    """``fsync`` the file ``path``, then release ``done`` if given."""
+    try:
+        descriptor = os.open(path, os.O_RDONLY | os.O_NOFOLLOW)
+        try:
+            os.fsync(descriptor)
+        finally:
+            os.close(descriptor)
+    except OSError:
+        if done is None:
+            raise  # a background flush of a journal removed meanwhile is let be
+    finally:
+        if done is not None:
+            done.release()
