@@ -11,4 +11,7 @@ FloatArray = np.floating | NDArray[np.floating]
 #: A boolean mask over candidates.
 BoolArray = NDArray[np.bool_]
 
-__all__ = ["BoolArray", "FloatArray"]
+#: Row indices or integer codes over candidates.
+IndexArray = NDArray[np.integer]
+
+__all__ = ["BoolArray", "FloatArray", "IndexArray"]

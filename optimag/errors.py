@@ -20,16 +20,18 @@ class ValidityRangeWarning(UserWarning):
     """A physics model was evaluated outside the range its source supports."""
 
 
-def warn_outside_range(condition: ArrayLike, message: str) -> None:
+def warn_outside_range(condition: ArrayLike, message: str, stacklevel: int = 3) -> None:
     """Warn once, with `ValidityRangeWarning`, where any element of `condition` is true.
 
     Called by a physics function about its own inputs; the warning points at that
-    function's caller. One ``np.any`` per call, never a warning per element.
+    function's caller (``stacklevel`` as `warnings.warn` counts it from here: one more for
+    each helper in between). One ``np.any`` per call, never a warning per element. Every
+    model-range warning goes through here.
     """
     import numpy as np
 
     if np.any(condition):
-        warnings.warn(message, ValidityRangeWarning, stacklevel=3)
+        warnings.warn(message, ValidityRangeWarning, stacklevel=stacklevel)
 
 
 @dataclass(frozen=True)

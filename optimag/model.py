@@ -29,6 +29,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from optimag import codes
+from optimag.codes import FEASIBLE, Constraint, Family, GapKind, MaterialKind, WireKind
 from optimag.constants import COPPER_RESISTIVITY_20C
 from optimag.errors import ValidityRangeWarning
 from optimag.physics import (
@@ -48,21 +50,9 @@ from optimag.physics import (
 from optimag.study.operating import OperatingArrays
 from optimag.study.waveform import current_shape_from_voltages, pulse_harmonics
 
-#: Constraint names in the order a candidate's elimination is attributed.
-CONSTRAINTS = (
-    "inductance",
-    "saturation",
-    "inductance_at_peak",
-    "material_range",
-    "window_fit",
-    "fill_factor",
-    "height",
-    "footprint",
-    "volume",
-    "temperature",
-    "loss_budget",
-    "mass",
-)
+#: Constraint names in the order a candidate's elimination is attributed (the position of
+#: a name is its `Constraint` code).
+CONSTRAINTS = tuple(code.text for code in Constraint)
 MAGNETIC_CONSTRAINTS = CONSTRAINTS[:4]
 WINDING_CONSTRAINTS = CONSTRAINTS[4:9]
 FINAL_CONSTRAINTS = CONSTRAINTS[9:]
@@ -82,18 +72,14 @@ MODEL_FLAGS = {
     "settled temperature",
 }
 
-#: Objective name -> metric column.
-OBJECTIVE_COLUMNS = {
-    "volume": "volume_cm3",
-    "loss": "weighted_loss_W",
-    "cost": "cost",
-    "mass": "mass_g",
-    "lifetime_cost": "lifetime_cost",
-}
+#: Objective name -> metric column (defined once, in `optimag.codes`).
+OBJECTIVE_COLUMNS = codes.OBJECTIVE_COLUMNS
 
-FAMILY_CODES = {"E": 0, "pot": 1, "toroid": 2}
-MATERIAL_KIND_CODES = {"ferrite": 0, "powder": 1}
-WIRE_KIND_CODES = {"round": 0, "litz": 1, "foil": 2}
+#: Catalogue words to their codes (`optimag.codes`).
+FAMILY_CODES = Family.by_text()
+MATERIAL_KIND_CODES = MaterialKind.by_text()
+WIRE_KIND_CODES = WireKind.by_text()
+GAP_KIND_CODES = GapKind.by_text()
 
 #: Copper resistivity at 100 degC, at which the litz strand range is checked (a hot
 #: winding: the skin depth is larger when the copper is hot, so this is the lenient side).
@@ -296,17 +282,17 @@ class WireArrays:
         insulation = _mm(_optional(wires, "insulation_mm"))
         outer = _mm(_optional(wires, "outer_diameter_mm"))
         copper = np.select(
-            [kind == 0, kind == 1, kind == 2],
+            [kind == WireKind.ROUND, kind == WireKind.LITZ, kind == WireKind.FOIL],
             [np.pi / 4 * bare**2, strands * np.pi / 4 * strand_d**2, thickness * foil_width],
         )
         # A foil's "outer" size in the build direction is its thickness plus insulation.
-        outer = np.where(kind == 2, thickness + insulation, outer)
+        outer = np.where(kind == WireKind.FOIL, thickness + insulation, outer)
         return cls(
             ids=wires["id"].astype(str).to_numpy(),
             kind=kind,
             copper_area_m2=copper,
             outer_m=outer,
-            bare_diameter_m=np.where(kind == 1, strand_d, bare),
+            bare_diameter_m=np.where(kind == WireKind.LITZ, strand_d, bare),
             strands=strands,
             strand_diameter_m=strand_d,
             foil_thickness_m=thickness,
@@ -422,7 +408,11 @@ class DesignSpace:
 
     def gap_option_spacer(self, gap_option: np.ndarray) -> np.ndarray:
         """True where a gap option is made with a spacer (every leg gapped)."""
-        kinds = np.array([kind == "spacer" for kind in self.gap_kinds])
+        return self.gap_option_kind(gap_option) == GapKind.SPACER
+
+    def gap_option_kind(self, gap_option: np.ndarray) -> np.ndarray:
+        """`GapKind` code of each gap option."""
+        kinds = np.array([GAP_KIND_CODES[kind] for kind in self.gap_kinds], dtype=np.int8)
         return kinds[np.asarray(gap_option, dtype=np.int64) // self.n_gap_values]
 
     def gap_option_value(self, gap_option: np.ndarray) -> np.ndarray:
@@ -491,7 +481,8 @@ def build_design_space(study, catalog) -> DesignSpace:
 def gap_allowed(space: DesignSpace, core: np.ndarray, material: np.ndarray) -> np.ndarray:
     """A discrete gap is cut only in ferrite E and pot cores; powder has its gap
     distributed and a ring cannot be gapped in practice (common practice, no source)."""
-    return (space.materials.kind[material] == 0) & (space.cores.family[core] != 2)
+    return ((space.materials.kind[material] == MaterialKind.FERRITE)
+            & (space.cores.family[core] != Family.TOROID))
 
 
 def gap_geometry(
@@ -502,7 +493,7 @@ def gap_geometry(
     window, the yoke, the outer legs' faces and whether a spacer gaps every leg."""
     c = space.cores
     stack_f = np.asarray(stack, dtype=float)
-    round_leg = c.family[core] == 1
+    round_leg = c.family[core] == Family.POT
     width = c.leg_width_m[core]
     depth = np.where(round_leg, width, c.leg_depth_m[core] * stack_f)
     face = np.where(round_leg, 0.25 * np.pi * width * width, width * depth)
@@ -532,7 +523,7 @@ def window_permeance(
     leg's side from the gap reluctances and half the core's."""
     c = space.cores
     spacer = space.gap_option_spacer(gap_option)
-    round_leg = c.family[core] == 1
+    round_leg = c.family[core] == Family.POT
     width = c.window_width_m[core]
     length = np.where(
         round_leg, 2.0 * np.pi * (0.5 * c.leg_width_m[core] + 0.5 * width),
@@ -545,7 +536,7 @@ def window_permeance(
     share = (r_centre + 0.5 * r_core) / (r_core + r_all)
     height = c.breadth_m[core] + np.where(spacer, gap, 0.0)
     # "ideal" keeps every line of flux in the core and the gap's face: no window field.
-    has_window = (c.family[core] != 2) & (model_name != "ideal")
+    has_window = (c.family[core] != Family.TOROID) & (model_name != "ideal")
     return np.where(has_window, magnetic.window_permeance(length, width, height, share), 0.0)
 
 
@@ -554,7 +545,7 @@ def _large_signal(space, material, turns, le, ae, bsat, r_gap, current, p_window
     broadcast): powder by its roll-off law, ferrite by its soft-saturation curve on the core
     and gap path plus the winding window's own permeance ``p_window`` [H] (air, linear)."""
     m = space.materials
-    powder = m.kind[material] == 1
+    powder = m.kind[material] == MaterialKind.POWDER
     mu_i = m.mu_i[material]
     a, b, c = m.rolloff_a[material], m.rolloff_b[material], m.rolloff_c[material]
     field = turns * current / le
@@ -634,7 +625,7 @@ def magnetic_stage(
     geometry = gap_geometry(space, core, stack, gap_option)
     breadth = c.breadth_m[core]
     mu_i = m.mu_i[material]
-    powder = m.kind[material] == 1
+    powder = m.kind[material] == MaterialKind.POWDER
     can_gap = gap_allowed(space, core, material)
 
     # Gap: solved for the target, stepped on the study's grid, or none.
@@ -880,26 +871,26 @@ def winding_layout_stage(
         n_turns, n_par, w.foil_thickness_m[wire], w.insulation_m[wire], w.foil_width_m[wire],
         breadth, width,
     )
-    is_foil = kind == 2
+    is_foil = kind == WireKind.FOIL
     layers = np.where(is_foil, foil_fit.layers, round_fit.layers).astype(float)
     per_layer = np.where(is_foil, 1.0, round_fit.conductors_per_layer).astype(float)
     build = np.where(is_foil, foil_fit.build_m, round_fit.build_m)
     fits = np.where(is_foil, foil_fit.fits, round_fit.fits)
     # Foil does not go on a ring (common practice, no source).
-    fits = fits & ~(is_foil & (family == 2))
+    fits = fits & ~(is_foil & (family == Family.TOROID))
 
     copper_per_turn = w.copper_area_m2[wire] * n_par
     fill = winding.fill_factor(n_turns * copper_per_turn, c.window_area_m2[core])
 
     leg_perimeter = np.where(
-        family == 1,
+        family == Family.POT,
         np.pi * c.leg_width_m[core],
         2.0 * (c.leg_width_m[core] + c.leg_depth_m[core] * stack_f),
     )
     toroid_od = c.length_m[core]
     toroid_id = toroid_od - 2.0 * c.leg_width_m[core]
     mlt = np.where(
-        family == 2,
+        family == Family.TOROID,
         winding.mean_turn_length_toroid(toroid_od, toroid_id, c.height_m[core] * stack_f, build),
         winding.mean_turn_length(leg_perimeter, c.bobbin_wall_m[core], build),
     )
@@ -912,7 +903,7 @@ def winding_layout_stage(
     box_pot = geometry.wound_box_pot(c.length_m[core], c.height_m[core], stack_f)
     box_ring = geometry.wound_box_toroid(toroid_od, toroid_id, c.height_m[core], stack_f, build)
     box_length, box_width, box_height = (
-        np.select([family == 0, family == 1, family == 2], [e, p, r])
+        np.select([family == Family.E, family == Family.POT, family == Family.TOROID], [e, p, r])
         for e, p, r in zip(box_e, box_pot, box_ring, strict=True)
     )
     footprint = geometry.footprint(box_length, box_width)
@@ -939,7 +930,7 @@ def winding_layout_stage(
         "violation_height": box_height / req.max_height_m - 1.0,
         "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
         "violation_volume": volume / req.max_volume_m3 - 1.0,
-        "outside_litz_model": (kind == 1) & ac_resistance.litz_outside_range(
+        "outside_litz_model": (kind == WireKind.LITZ) & ac_resistance.litz_outside_range(
             w.strand_diameter_m[wire], space.operating.frequency_Hz, LITZ_CHECK_RESISTIVITY
         ),
     }
@@ -1083,7 +1074,7 @@ def _gap_loss_coefficient(space, wire, kind, core, layout, n_turns, n_par, harmo
     mean turn length. Foil is left out (its low-frequency sheet formula has no support at
     practical widths; the record notes it)."""
     c, w = space.cores, space.wires
-    is_litz = kind == 1
+    is_litz = kind == WireKind.LITZ
     diameter = np.where(is_litz, w.strand_diameter_m[wire], w.bare_diameter_m[wire])
     strands = np.where(is_litz, w.strands[wire], 1.0)
     pitch = w.outer_m[wire]
@@ -1117,19 +1108,19 @@ def _gap_loss_coefficient(space, wire, kind, core, layout, n_turns, n_par, harmo
         harmonic_freq[None, :], rho, diameter[first][:, None]
     )[inverse]  # (n, H) W/m per (A/m)^2
     # Toroids have no discrete gap; foil is not estimated (see above).
-    skip = (kind == 2) | (c.family[core] == 2)
+    skip = (kind == WireKind.FOIL) | (c.family[core] == Family.TOROID)
     return np.where(skip[:, None], 0.0, geometry[:, None] * per_field)
 
 
 def _distinct_ac_cases(space, wire, kind, core, layout, turns, parallel):
     """Rows that are distinct as far as the AC factor goes, and the map back to all rows."""
     zero = np.zeros_like(wire)
-    is_round, is_litz = kind == 0, kind == 1
+    is_round, is_litz = kind == WireKind.ROUND, kind == WireKind.LITZ
     per_layer = layout["conductors_per_layer"].astype(np.int64)
     layers = layout["layers"].astype(np.int64)
     fields = (
         wire,
-        np.where(kind == 2, zero, core),  # foil: porosity 1, the window does not matter
+        np.where(kind == WireKind.FOIL, zero, core),  # foil: porosity 1, the window does not matter
         np.where(is_round, per_layer, zero),
         np.where(is_litz, zero, layers),
         np.where(is_litz, turns, zero),
@@ -1198,7 +1189,7 @@ def _visible_winding_fraction(space: DesignSpace, core: np.ndarray, wdg: dict) -
     free_area = length * width + 2.0 * (length + width) * height
     ends = 2.0 * (c.leg_width_m[core] + 2.0 * (c.bobbin_wall_m[core] + wdg["build_m"]))
     e_share = np.clip(ends * c.breadth_m[core] / free_area, 0.0, 1.0)
-    return np.select([family == 0, family == 1], [e_share, 0.0], 1.0)
+    return np.select([family == Family.E, family == Family.POT], [e_share, 0.0], 1.0)
 
 
 def thermal_setup(
@@ -1298,7 +1289,7 @@ def hot_spot_rise(
     (no source); the conduction laws from Incropera et al., 6th ed., ch. 3."""
     c, w = space.cores, space.wires
     pitch = w.outer_m[wire]
-    copper = np.where(w.kind[wire] == 2, w.foil_thickness_m[wire],
+    copper = np.where(w.kind[wire] == WireKind.FOIL, w.foil_thickness_m[wire],
                       w.copper_area_m2[wire] / np.maximum(pitch, 1e-12))
     k_winding = heat_paths.winding_conductivity_across_layers(pitch, copper)
     area = wdg["mlt_m"] * c.breadth_m[core]
@@ -1309,10 +1300,12 @@ def hot_spot_rise(
     family = c.family[core]
     stack_f = stack.astype(float)
     side = np.where(
-        family == 1, c.leg_width_m[core],
-        np.minimum(c.leg_width_m[core], c.leg_depth_m[core] * np.where(family == 0, stack_f, 1)),
+        family == Family.POT, c.leg_width_m[core],
+        np.minimum(c.leg_width_m[core],
+                   c.leg_depth_m[core] * np.where(family == Family.E, stack_f, 1)),
     )
-    side = np.where(family == 2, np.minimum(c.leg_width_m[core], c.height_m[core] * stack_f), side)
+    side = np.where(family == Family.TOROID,
+                    np.minimum(c.leg_width_m[core], c.height_m[core] * stack_f), side)
     half = 0.5 * side
     ve = c.ve_m3[core] * stack_f
     core_rise = heat_paths.slab_generation_rise(
@@ -1448,10 +1441,11 @@ def violations_matrix(metrics: dict[str, np.ndarray]) -> np.ndarray:
 
 
 def first_violated(violations: np.ndarray) -> np.ndarray:
-    """Index into `CONSTRAINTS` of the first violated constraint, or -1 if feasible."""
+    """Code (`Constraint`, the index into `CONSTRAINTS`) of the first violated constraint,
+    or `FEASIBLE` (-1)."""
     bad = violations > 0
     first = np.argmax(bad, axis=1)
-    return np.where(bad.any(axis=1), first, -1)
+    return np.where(bad.any(axis=1), first, FEASIBLE)
 
 
 def evaluate(space: DesignSpace, candidates: Candidates) -> dict[str, np.ndarray]:
@@ -1695,7 +1689,7 @@ def temperature_band(space: DesignSpace, candidates: Candidates) -> dict[str, ob
     high = np.full(n, -np.inf)
     counted: list[list[str]] = [[] for _ in range(n)]
     runaway: list[list[str]] = [[] for _ in range(n)]
-    ferrite = space.materials.kind[candidates.material] == 0
+    ferrite = space.materials.kind[candidates.material] == MaterialKind.FERRITE
     for position, (name, variant) in enumerate(thermal_alternatives(space)):
         metrics = evaluate(variant, candidates)
         hot = metrics["worst_hotspot_temperature_C"]

@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 
 from optimag import model
+from optimag.codes import WireKind
 
 SCOPES = ("design", "point", "worst", "weighted", "limit", "text")
 
@@ -753,7 +754,7 @@ def _record(space, candidates, metrics, details, curves, i: int, design_id: str)
             "kind": _WIRE_NAMES[int(w.kind[wire])],
             "conductor_outer_mm": float(w.outer_m[wire] * 1e3),
             "foil_thickness_mm": (
-                float(w.foil_thickness_m[wire] * 1e3) if w.kind[wire] == 2 else None
+                float(w.foil_thickness_m[wire] * 1e3) if w.kind[wire] == WireKind.FOIL else None
             ),
             "conductors_per_layer": int(metrics["conductors_per_layer"][i]),
             "layers": int(metrics["layers"][i]),
@@ -870,11 +871,11 @@ def _model_notes(space, candidates, metrics, i, flags: list[str], runaway_models
         )
     wire = candidates.wire[i]
     gap = metrics["gap_m"][i]
-    if gap > 0 and space.wires.kind[wire] == 2:
+    if gap > 0 and space.wires.kind[wire] == WireKind.FOIL:
         notes.append("gap loss in the winding: not estimated for foil (the field normal to "
                      "the foil near the gap is not modelled); expect more loss than stated")
     nearest = space.cores.bobbin_wall_m[candidates.core[i]] + 0.5 * space.wires.outer_m[wire]
-    if gap > 0 and space.wires.kind[wire] != 2 and gap > nearest:
+    if gap > 0 and space.wires.kind[wire] != WireKind.FOIL and gap > nearest:
         notes.append("gap loss in the winding: the first layer sits closer to the gap than "
                      "the gap is long; the line-source field over-states it there")
     return notes

@@ -36,6 +36,7 @@ import numpy as np
 import pandas as pd
 
 from optimag import model
+from optimag.codes import MaterialKind, WireKind
 from optimag.study.tolerance import Spread, ToleranceSpec
 
 #: Ambient values closer than this share one evaluation of the thermal balance [K].
@@ -112,7 +113,7 @@ def design_spreads(
     conductor tolerance class."""
     m, w = space.materials, space.wires
     n = len(designs)
-    powder = m.kind[designs.material] == 1
+    powder = m.kind[designs.material] == MaterialKind.POWDER
     gapped = np.asarray(gap_m, dtype=float) > 0
     spacer = _spacer_gapped(designs)
 
@@ -144,7 +145,7 @@ def design_spreads(
         )
         half["wire_diameter"] = half["wire_diameter"] / 100.0
     else:
-        size = np.where(w.kind[designs.wire] == 2, w.foil_thickness_m[designs.wire],
+        size = np.where(w.kind[designs.wire] == WireKind.FOIL, w.foil_thickness_m[designs.wire],
                         w.bare_diameter_m[designs.wire])
         with np.errstate(divide="ignore", invalid="ignore"):
             relative = np.maximum(IEC_60317_ABSOLUTE_M / size, IEC_60317_RELATIVE)
@@ -236,7 +237,8 @@ def _scaled_wires(
     s = scale
     bare, strand = table.bare_diameter_m, table.strand_diameter_m
     thickness = table.foil_thickness_m
-    is_round, is_litz, is_foil = table.kind == 0, table.kind == 1, table.kind == 2
+    is_round, is_litz, is_foil = (table.kind == WireKind.ROUND, table.kind == WireKind.LITZ,
+                                  table.kind == WireKind.FOIL)
     outer = np.select(
         [is_round, is_litz, is_foil],
         [table.outer_m + bare * (s - 1.0), table.outer_m * s,

@@ -24,6 +24,7 @@ from optimag.catalog.cross_checks import (
     check_material_temperature_factor,
     check_wire_conductor,
 )
+from optimag.codes import Family, MaterialKind, WireKind
 
 ColumnKind = Literal["text", "choice", "float", "int"]
 
@@ -160,9 +161,10 @@ def _optional_loss_columns() -> tuple[Column, ...]:
     return tuple(columns)
 
 
-_CORE_FAMILIES = ("E", "pot", "toroid")
-_MATERIAL_KINDS = ("ferrite", "powder")
-_WIRE_KINDS = ("round", "litz", "foil")
+# The words of the model's codes (`optimag.codes`), in code order.
+_CORE_FAMILIES = tuple(Family.by_text())
+_MATERIAL_KINDS = tuple(MaterialKind.by_text())
+_WIRE_KINDS = tuple(WireKind.by_text())
 _POWDER = frozenset({"powder"})
 _ROUND = frozenset({"round"})
 _LITZ = frozenset({"litz"})

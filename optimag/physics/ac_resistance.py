@@ -12,9 +12,9 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
-from optimag.arrays import FloatArray
+from optimag.arrays import BoolArray, FloatArray
 from optimag.errors import warn_outside_range
 from optimag.physics.winding import FIT_SLACK, skin_depth
 
@@ -185,7 +185,7 @@ def equivalent_foil_delta(
 
 def litz_outside_range(
     strand_diameter_m: ArrayLike, frequency_Hz: ArrayLike, resistivity_ohm_m: ArrayLike
-) -> NDArray[np.bool_]:
+) -> BoolArray:
     """True where litz strands are thicker than the skin depth, beyond the low-frequency
     strand model of `litz_factor` (Sullivan).
 

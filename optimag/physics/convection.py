@@ -10,9 +10,9 @@ from __future__ import annotations
 from typing import NamedTuple
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
-from optimag.arrays import FloatArray
+from optimag.arrays import BoolArray, FloatArray
 from optimag.constants import STEFAN_BOLTZMANN, ZERO_CELSIUS_K
 
 
@@ -352,7 +352,7 @@ def combine_mixed_convection(forced: ArrayLike, natural: ArrayLike) -> FloatArra
     return np.cbrt(f**3 + n**3)
 
 
-def _inside(name: str, value: ArrayLike) -> NDArray[np.bool_]:
+def _inside(name: str, value: ArrayLike) -> BoolArray:
     low, high = CORRELATION_RANGES[name]
     v = np.asarray(value)
     return (v >= low) & (v <= high)
@@ -372,7 +372,7 @@ class FaceCoefficients(NamedTuple):
     side_W_m2K: FloatArray
     top_W_m2K: FloatArray
     radiation_W_m2K: FloatArray
-    inside_range: NDArray[np.bool_]
+    inside_range: BoolArray
 
 
 def face_coefficients(

@@ -384,7 +384,7 @@ def steinmetz_validity_check(
     f_min_Hz: npt.ArrayLike,
     f_max_Hz: npt.ArrayLike,
     b_max_T: npt.ArrayLike,
-) -> npt.NDArray[np.bool_]:
+) -> npt.BoolArray:
     """Flag operating points outside the range a set of Steinmetz coefficients covers.
 
     Parameters
@@ -500,7 +500,7 @@ def relaxation_loss_density(
 
 def dc_bias_factor(
     h_dc_A_m: npt.ArrayLike, table_h_A_m: npt.ArrayLike, table_factor: npt.ArrayLike
-) -> tuple[FloatArray, npt.NDArray[np.bool_]]:
+) -> tuple[FloatArray, npt.BoolArray]:
     """Core-loss multiplier for a DC magnetising field from a premagnetisation table.
 
     Parameters

@@ -7,14 +7,12 @@ source); each function says what it neglects.
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 from numpy.typing import ArrayLike
 
 from optimag.arrays import FloatArray
 from optimag.constants import COPPER_DENSITY
-from optimag.errors import ValidityRangeWarning
+from optimag.errors import warn_outside_range
 
 Box = tuple[FloatArray, FloatArray, FloatArray]
 
@@ -151,12 +149,8 @@ def wound_box_toroid(
     None: common practice, no source.
     """
     build = np.asarray(build_m)
-    if np.any(2.0 * build >= np.asarray(inner_diameter_m)):
-        warnings.warn(
-            "toroid box: winding build fills the core hole (2 build >= ID)",
-            ValidityRangeWarning,
-            stacklevel=2,
-        )
+    warn_outside_range(2.0 * build >= np.asarray(inner_diameter_m),
+                       "toroid box: winding build fills the core hole (2 build >= ID)")
     wound_diameter = np.asarray(outer_diameter_m) + 2.0 * build
     wound_height = np.asarray(height_m) * np.asarray(stack) + 2.0 * build
     length, width, height = np.broadcast_arrays(wound_diameter, wound_diameter, wound_height)

@@ -7,9 +7,9 @@ from __future__ import annotations
 from typing import NamedTuple
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
-from optimag.arrays import FloatArray
+from optimag.arrays import BoolArray, FloatArray, IndexArray
 from optimag.errors import warn_outside_range
 from optimag.physics.heat_paths import (
     _ENCLOSURE_RISES,
@@ -49,14 +49,14 @@ class ThermalEquilibrium(NamedTuple):
 
     temperature_C: FloatArray
     loss_W: FloatArray
-    runaway: NDArray[np.bool_]
+    runaway: BoolArray
     conductance_W_K: FloatArray
-    inside_range: NDArray[np.bool_]
+    inside_range: BoolArray
 
 
 def _smallest_nonnegative_root(
     a: FloatArray, b: FloatArray, c: FloatArray
-) -> tuple[FloatArray, NDArray[np.bool_]]:
+) -> tuple[FloatArray, BoolArray]:
     """Smallest root x >= 0 of a x^2 + b x + c = 0 with c >= 0; (root, found)."""
     disc = b * b - 4.0 * a * c
     sqrt_disc = np.sqrt(np.maximum(disc, 0.0))
@@ -69,17 +69,17 @@ def _smallest_nonnegative_root(
     return np.where(found, root, 0.0), found
 
 
-def _take(part: ThermalContext, index: NDArray[np.intp]) -> ThermalContext:
+def _take(part: ThermalContext, index: IndexArray) -> ThermalContext:
     return ThermalContext(*(None if v is None else v[index] for v in part))
 
 
 def _bracket_first_equilibrium(
     conductance_of: ConductanceModel,
     part: ThermalContext,
-    curvature: NDArray[np.floating],
-    slope0: NDArray[np.floating],
-    loss0: NDArray[np.floating],
-) -> tuple[NDArray[np.floating], NDArray[np.bool_], NDArray[np.floating]]:
+    curvature: FloatArray,
+    slope0: FloatArray,
+    loss0: FloatArray,
+) -> tuple[FloatArray, BoolArray, FloatArray]:
     """First rise where the heat shed catches up with the loss, by scan and bisection.
 
     The surplus s(x) = G(x) x - P(T_a + x) starts at -P(T_a) <= 0; the stable equilibrium
@@ -114,18 +114,18 @@ def _bracket_first_equilibrium(
 def _scan_and_bisect(
     conductance_of: ConductanceModel,
     part: ThermalContext,
-    curvature: NDArray[np.floating],
-    slope0: NDArray[np.floating],
-    loss0: NDArray[np.floating],
-    start: NDArray[np.floating],
-) -> tuple[NDArray[np.floating], NDArray[np.bool_]]:
+    curvature: FloatArray,
+    slope0: FloatArray,
+    loss0: FloatArray,
+    start: FloatArray,
+) -> tuple[FloatArray, BoolArray]:
     def surplus(
-        rise: NDArray[np.floating],
+        rise: FloatArray,
         parts: ThermalContext,
-        curvature: NDArray[np.floating],
-        slope0: NDArray[np.floating],
-        loss0: NDArray[np.floating],
-    ) -> NDArray[np.floating]:
+        curvature: FloatArray,
+        slope0: FloatArray,
+        loss0: FloatArray,
+    ) -> FloatArray:
         loss = loss0 + rise * (slope0 + curvature * rise)
         # A rounding-level allowance, so a lower bound that is itself the equilibrium (a
         # constant G) is not stepped over.
@@ -284,7 +284,7 @@ def loss_temperature_fixed_point(
         *(np.shape(v) for v in context.values() if v is not None),
     )
 
-    def flat(value: ArrayLike | None) -> NDArray[np.floating] | None:
+    def flat(value: ArrayLike | None) -> FloatArray | None:
         if value is None:
             return None
         return np.broadcast_to(np.asarray(value, dtype=float), shape).ravel()
@@ -385,7 +385,7 @@ def _fixed_point(
         *(np.shape(v) for v in context.values() if v is not None),
     )
 
-    def flat(value: ArrayLike | None) -> NDArray[np.floating] | None:
+    def flat(value: ArrayLike | None) -> FloatArray | None:
         if value is None:
             return None
         return np.broadcast_to(np.asarray(value, dtype=float), shape).ravel()

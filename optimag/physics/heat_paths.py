@@ -7,9 +7,9 @@ from __future__ import annotations
 from typing import NamedTuple
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
-from optimag.arrays import FloatArray
+from optimag.arrays import BoolArray, FloatArray
 from optimag.physics.convection import face_coefficients
 from optimag.physics.thermal import RUNAWAY_CEILING_RISE_K
 
@@ -41,7 +41,7 @@ STANDOFF_GAP_M = 0.5e-3
 
 def potting_shape_factor(
     length_m: ArrayLike, width_m: ArrayLike, height_m: ArrayLike, thickness_m: ArrayLike
-) -> tuple[FloatArray, NDArray[np.bool_]]:
+) -> tuple[FloatArray, BoolArray]:
     """Conduction shape factor of a compound layer over a box's five free faces.
 
     Parameters
@@ -281,7 +281,7 @@ def enclosure_heat_shed(rise_K: ArrayLike, ambient_C: float, box: Enclosure) -> 
     return _enclosure_split(rise_K, ambient_C, box)[0]
 
 
-def enclosure_inside_range(rise_K: ArrayLike, ambient_C: float, box: Enclosure) -> NDArray:
+def enclosure_inside_range(rise_K: ArrayLike, ambient_C: float, box: Enclosure) -> BoolArray:
     """True where the box's inside and outside correlations are inside their published
     ranges at an inside air rise (see `enclosure_heat_shed`) [-]."""
     return _enclosure_split(rise_K, ambient_C, box)[1]

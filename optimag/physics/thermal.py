@@ -14,9 +14,9 @@ from collections.abc import Callable
 from typing import NamedTuple
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
-from optimag.arrays import FloatArray
+from optimag.arrays import BoolArray, FloatArray
 from optimag.errors import warn_outside_range
 from optimag.physics.convection import _radiation_h, face_coefficients
 
@@ -437,35 +437,35 @@ def conductance_ferrite_rth(rise_K: FloatArray, part: ThermalContext) -> FloatAr
     return 1.0 / _ferrite_rth(part.ve_m3) + 0.0 * np.asarray(rise_K)
 
 
-def _inside_convection(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+def _inside_convection(rise_K: FloatArray, part: ThermalContext) -> BoolArray:
     low, high = LAMINAR_RAYLEIGH_RANGE
     rayleigh = AIR_RAYLEIGH_PER_K_M3 * np.asarray(rise_K) * np.asarray(part.height_m) ** 3
     e = np.asarray(part.emissivity)
     return (rayleigh >= low) & (rayleigh <= high) & (e >= 0.0) & (e <= 1.0)
 
 
-def _inside_mclyman(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+def _inside_mclyman(rise_K: FloatArray, part: ThermalContext) -> BoolArray:
     return np.asarray(rise_K) <= MCLYMAN_MAX_RISE_K
 
 
-def _inside_ferrite(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+def _inside_ferrite(rise_K: FloatArray, part: ThermalContext) -> BoolArray:
     low, high = FERRITE_RTH_VE_RANGE_M3
     ve = np.asarray(part.ve_m3)
     return (ve >= low) & (ve <= high) & np.ones(np.shape(rise_K), dtype=bool)
 
 
-def _inside_faces(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+def _inside_faces(rise_K: FloatArray, part: ThermalContext) -> BoolArray:
     # Faces that meet no air (potted) use no air correlation.
     inside = _faces_conductance(rise_K, part, "churchill_chu", True)[1].inside_range
     return inside | (np.asarray(part.air_exposed) == 0)
 
 
-def _inside_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> NDArray[np.bool_]:
+def _inside_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> BoolArray:
     inside = _faces_conductance(rise_K, part, "churchill_chu_laminar", True)[1].inside_range
     return inside | (np.asarray(part.air_exposed) == 0)
 
 
-RangeFlags = Callable[[FloatArray, ThermalContext], NDArray[np.bool_]]
+RangeFlags = Callable[[FloatArray, ThermalContext], BoolArray]
 
 #: Thermal models by name: (conductance at a rise, per-part flag "inside the published
 #: range" on the final state). "faces" is the face-by-face model (default); the others are

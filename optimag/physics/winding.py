@@ -14,9 +14,9 @@ import math
 from typing import NamedTuple
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
-from optimag.arrays import FloatArray
+from optimag.arrays import BoolArray, FloatArray
 from optimag.constants import (
     COPPER_RESISTIVITY_20C,
     COPPER_TEMPCO_20C,
@@ -50,7 +50,7 @@ class WindingLayout(NamedTuple):
     conductors_per_layer: FloatArray
     layers: FloatArray
     build_m: FloatArray
-    fits: NDArray[np.bool_] | np.bool_
+    fits: BoolArray | np.bool_
 
 
 

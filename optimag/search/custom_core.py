@@ -30,14 +30,13 @@ Pure numpy, SI units inside; every argument broadcasts.
 
 from __future__ import annotations
 
-import warnings
 from typing import NamedTuple
 
 import numpy as np
 import numpy.typing as npt
 
 from optimag.arrays import FloatArray
-from optimag.errors import ValidityRangeWarning
+from optimag.errors import warn_outside_range
 
 __all__ = [
     "MIN_WINDOW_TO_LEG_RATIO",
@@ -107,13 +106,12 @@ def _positive(**values: npt.ArrayLike) -> dict[str, FloatArray]:
 
 def _warn_squat_window(breadth: FloatArray, width: FloatArray, leg: FloatArray) -> None:
     squat = (breadth < MIN_WINDOW_TO_LEG_RATIO * leg) | (width < MIN_WINDOW_TO_LEG_RATIO * leg)
-    if np.any(squat):
-        warnings.warn(
-            f"window side below {MIN_WINDOW_TO_LEG_RATIO:g} x the centre-leg width: the "
-            "lumped-section effective parameters are a poor description of such a core",
-            ValidityRangeWarning,
-            stacklevel=3,
-        )
+    warn_outside_range(
+        squat,
+        f"window side below {MIN_WINDOW_TO_LEG_RATIO:g} x the centre-leg width: the "
+        "lumped-section effective parameters are a poor description of such a core",
+        stacklevel=4,
+    )
 
 
 def core_constants(

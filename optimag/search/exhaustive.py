@@ -32,6 +32,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from optimag import model, tolerance
+from optimag.codes import Family, MaterialKind
 from optimag.ranges import MEMORY_BUDGET_BYTES
 from optimag.search.pareto import RunningFront
 from optimag.study.tolerance import ToleranceSpec
@@ -240,9 +241,9 @@ def magnetic_grid(space: model.DesignSpace) -> dict[str, np.ndarray]:
 
 def _options_per_core(space: model.DesignSpace) -> np.ndarray:
     """(material, gap option) rows of one (core, stack, turns) group, per core."""
-    ferrite = int(np.count_nonzero(space.materials.kind == 0))
+    ferrite = int(np.count_nonzero(space.materials.kind == MaterialKind.FERRITE))
     others = len(space.materials.ids) - ferrite
-    gappable = space.cores.family != model.FAMILY_CODES["toroid"]
+    gappable = space.cores.family != Family.TOROID
     return np.where(gappable, ferrite * space.n_gap_options + others,
                     len(space.materials.ids)).astype(np.int64)
 

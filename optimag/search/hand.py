@@ -25,6 +25,7 @@ from __future__ import annotations
 import numpy as np
 
 from optimag import model, records
+from optimag.codes import MaterialKind, WireKind
 
 METHOD = (
     "area product (McLyman): Ap = L Ipk Irms / (Bmax J Ku), smallest catalogue core meeting "
@@ -42,7 +43,7 @@ def _hand_design(space: model.DesignSpace, material: int, core: int, stack: int
     area = c.amin_m2[core] * stack
     turns = max(int(np.ceil(req.inductance_H * float(peak.max()) / (limit * area))), 1)
     section = float(rms.max()) / model.HAND_CURRENT_DENSITY_A_PER_M2
-    round_wires = np.flatnonzero(w.kind == model.WIRE_KIND_CODES["round"])
+    round_wires = np.flatnonzero(w.kind == WireKind.ROUND)
     pool = round_wires if len(round_wires) else np.arange(len(w.ids))
     wires = [(w.copper_area_m2[k] * p, int(p), int(k)) for k in pool for p in space.parallels
              if w.copper_area_m2[k] * p >= section]
@@ -89,7 +90,7 @@ def hand_sizing(
     skipped = []
     tried = []
     for material in range(len(space.materials.ids)):
-        if space.materials.kind[material] != model.MATERIAL_KIND_CODES["ferrite"]:
+        if space.materials.kind[material] != MaterialKind.FERRITE:
             continue
         cores = _cores_by_area_product(space, material)
         if not cores:
@@ -116,7 +117,7 @@ def hand_sizing(
     if not picked:
         out["note"] = (
             "no ferrite material in this study: the procedure sizes a gapped ferrite core"
-            if not any(space.materials.kind == model.MATERIAL_KIND_CODES["ferrite"])
+            if not any(space.materials.kind == MaterialKind.FERRITE)
             else "no catalogue core meets the required area product"
         )
         return out

@@ -6,7 +6,9 @@ All objectives are minimised. Objective matrices have shape (n_points, n_objecti
 from __future__ import annotations
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
+
+from optimag.arrays import BoolArray, FloatArray
 
 #: Rows compared at once when filtering against a front (bounds the n x f boolean block).
 _BLOCK_ROWS = 4096
@@ -15,7 +17,7 @@ _BLOCK_ROWS = 4096
 _SCREEN_SIZE = 16
 
 
-def dominated_by_any(points: ArrayLike, front: ArrayLike) -> NDArray[np.bool_]:
+def dominated_by_any(points: ArrayLike, front: ArrayLike) -> BoolArray:
     """Mark the points that some member of ``front`` dominates.
 
     ``a`` dominates ``b`` when ``a <= b`` in every objective and ``a < b`` in at least one
@@ -38,7 +40,7 @@ def dominated_by_any(points: ArrayLike, front: ArrayLike) -> NDArray[np.bool_]:
     return _dominated_blockwise(points, front)
 
 
-def _dominated_blockwise(points: np.ndarray, front: np.ndarray) -> NDArray[np.bool_]:
+def _dominated_blockwise(points: np.ndarray, front: np.ndarray) -> BoolArray:
     result = np.zeros(len(points), dtype=bool)
     block = max(1, _BLOCK_ROWS * 64 // max(len(front), 1))
     for start in range(0, len(points), block):
@@ -49,7 +51,7 @@ def _dominated_blockwise(points: np.ndarray, front: np.ndarray) -> NDArray[np.bo
     return result
 
 
-def nondominated_mask(points: ArrayLike) -> NDArray[np.bool_]:
+def nondominated_mask(points: ArrayLike) -> BoolArray:
     """Exact mask of the non-dominated rows of ``points`` (ties are all kept).
 
     Rows are visited in lexicographic order; the lexicographically smallest remaining row
@@ -174,7 +176,7 @@ NORMALISATION_METHOD = (
 KNEE_METHOD = "closest to the ideal point (Euclidean) after normalising the objectives"
 
 
-def normalised_objectives(points: ArrayLike) -> NDArray[np.float64]:
+def normalised_objectives(points: ArrayLike) -> FloatArray:
     """Objectives scaled for comparing trades across objectives (see `NORMALISATION_METHOD`).
 
     Each column becomes ``(x - best) / max(spread, NEGLIGIBLE_SPREAD * |best|)``: 0 at the

@@ -19,8 +19,9 @@ the cap rise, one design at a time.
 from __future__ import annotations
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
+from optimag.arrays import BoolArray, FloatArray, IndexArray
 from optimag.search.pareto import knee_index, normalised_objectives
 
 #: At most this many short-listed designs share a (core, material, turns) group, unless the
@@ -41,7 +42,7 @@ SHORTLIST_METHOD = (
 
 
 def kmeans(points: ArrayLike, k: int, first: int = 0,
-           iterations: int = KMEANS_ITERATIONS) -> tuple[NDArray[np.float64], NDArray[np.int64]]:
+           iterations: int = KMEANS_ITERATIONS) -> tuple[FloatArray, IndexArray]:
     """Deterministic k-means (Lloyd's algorithm) seeded by farthest-point traversal.
 
     Lloyd, "Least squares quantization in PCM", IEEE Trans. Inf. Theory 28(2), 1982; the
@@ -122,7 +123,7 @@ def spread_shortlist(points: ArrayLike, groups: ArrayLike, top: int) -> list[int
         per_group[group_id[row]] += 1
         return True
 
-    def open_rows() -> NDArray[np.bool_]:
+    def open_rows() -> BoolArray:
         return ~taken & (per_group[group_id] < cap)
 
     # The ends of every objective: among the rows tied at an end, the one nearest the knee.
@@ -166,7 +167,7 @@ def spread_shortlist(points: ArrayLike, groups: ArrayLike, top: int) -> list[int
     return chosen
 
 
-def range_coverage(front: ArrayLike, subset: ArrayLike) -> NDArray[np.float64]:
+def range_coverage(front: ArrayLike, subset: ArrayLike) -> FloatArray:
     """Per objective, the share of the front's range that ``subset`` spans (1 for an
     objective that is constant on the front)."""
     front = np.asarray(front, dtype=float)

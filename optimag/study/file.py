@@ -41,6 +41,7 @@ from pydantic import (
 )
 from pydantic.fields import FieldInfo
 
+from optimag.codes import OBJECTIVE_COLUMNS
 from optimag.errors import InputError, Problem
 from optimag.ranges import (
     BATCH,
@@ -259,7 +260,8 @@ class Limits(_Section):
     """Largest allowed mass of core and copper; no limit when absent."""
 
 
-Objective = Literal["volume", "loss", "cost", "mass", "lifetime_cost"]
+#: An objective's name (`optimag.codes.OBJECTIVE_COLUMNS`).
+Objective = Literal[tuple(OBJECTIVE_COLUMNS)]
 
 
 class Search(_Section):

@@ -18,7 +18,9 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Literal
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
+
+from optimag.arrays import BoolArray, FloatArray
 
 if TYPE_CHECKING:
     from optimag.study.file import Study
@@ -47,14 +49,14 @@ class InductorCurrentShape:
     rms_A : ndarray  RMS current [A]
     """
 
-    dcm: NDArray[np.bool_]
-    rise_fraction: NDArray[np.float64]
-    fall_fraction: NDArray[np.float64]
-    dc_A: NDArray[np.float64]
-    ripple_pp_A: NDArray[np.float64]
-    peak_A: NDArray[np.float64]
-    valley_A: NDArray[np.float64]
-    rms_A: NDArray[np.float64]
+    dcm: BoolArray
+    rise_fraction: FloatArray
+    fall_fraction: FloatArray
+    dc_A: FloatArray
+    ripple_pp_A: FloatArray
+    peak_A: FloatArray
+    valley_A: FloatArray
+    rms_A: FloatArray
 
 
 @dataclass(frozen=True, eq=False)
@@ -93,9 +95,9 @@ class Waveform:
     peak_A: float
     valley_A: float
     rms_A: float
-    harmonics_A: NDArray[np.float64]
-    times_s: NDArray[np.float64]
-    currents_A: NDArray[np.float64]
+    harmonics_A: FloatArray
+    times_s: FloatArray
+    currents_A: FloatArray
     input_V: float
     output_V: float
     load_A: float
@@ -108,7 +110,7 @@ class Waveform:
 
 def inductor_voltages(
     topology: Topology, input_V: ArrayLike, output_V: ArrayLike, load_A: ArrayLike
-) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+) -> tuple[FloatArray, FloatArray, FloatArray]:
     """Inductor voltage while the current rises and falls, and the average inductor current.
 
     Parameters
@@ -175,7 +177,7 @@ def inductor_voltages(
 
 def ccm_duty_ratio(
     topology: Topology, input_V: ArrayLike, output_V: ArrayLike
-) -> NDArray[np.float64]:
+) -> FloatArray:
     """Duty ratio of the active switch in continuous conduction.
 
     Parameters
@@ -210,7 +212,7 @@ def ccm_ripple_inductance(
     load_A: ArrayLike,
     frequency_Hz: ArrayLike,
     ripple_fraction: ArrayLike,
-) -> NDArray[np.float64]:
+) -> FloatArray:
     """Inductance giving a chosen peak-to-peak ripple, as a fraction of the average current.
 
     Parameters
@@ -394,7 +396,7 @@ def current_shape_from_voltages(
 
 def pulse_harmonics(
     ripple_pp_A: ArrayLike, rise_fraction: ArrayLike, fall_fraction: ArrayLike, harmonics: int
-) -> NDArray[np.float64]:
+) -> FloatArray:
     """Fourier amplitudes of a triangle followed by a flat interval (CCM or DCM current).
 
     Parameters
@@ -445,7 +447,7 @@ def pulse_harmonics(
 
 def triangle_harmonics(
     ripple_pp_A: ArrayLike, rise_fraction: ArrayLike, harmonics: int
-) -> NDArray[np.float64]:
+) -> FloatArray:
     """Fourier amplitudes of a triangular ripple.
 
     Parameters
@@ -488,7 +490,7 @@ def triangle_harmonics(
 
 def piecewise_linear_harmonics(
     times_s: ArrayLike, values: ArrayLike, harmonics: int
-) -> NDArray[np.float64]:
+) -> FloatArray:
     """Exact Fourier amplitudes of a periodic piecewise-linear wave.
 
     Parameters
