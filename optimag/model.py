@@ -377,6 +377,9 @@ class Requirements:
     #: [cost] energy price and hours in service (0 when the study sets none).
     energy_price_per_kWh: float = 0.0
     operating_hours: float = 0.0
+    #: Names in `coreloss.CORE_LOSS_MODELS` and `ac_resistance.AC_RESISTANCE_MODELS`.
+    core_loss: str = "igse"
+    ac_resistance: str = "dowell"
 
 
 @dataclass(frozen=True)
@@ -455,6 +458,8 @@ def build_design_space(study, catalog) -> DesignSpace:
         cooling=Cooling.from_study(study.cooling),
         energy_price_per_kWh=float(study.cost.energy_price_per_kWh or 0.0),
         operating_hours=float(study.cost.operating_hours or 0.0),
+        core_loss=study.model.core_loss,
+        ac_resistance=study.model.ac_resistance,
     )
     gap_grid = None
     if search.gap == "grid":
@@ -733,7 +738,7 @@ def magnetic_stage(
     b_swing = b_peak - b_valley
 
     # Core loss density by iGSE on the triangular (CCM) or three-segment (DCM) flux.
-    loss_density = coreloss.igse_loss_density_triangle(
+    loss_density = coreloss.CORE_LOSS_MODELS[req.core_loss](
         frequency, b_swing, rise, m.k[material][:, None],
         m.alpha[material][:, None], m.beta[material][:, None], fall_fraction=fall,
     )
@@ -972,7 +977,11 @@ def winding_loss_stage(
     # The AC factors depend on fewer axes than the winding: not on the stack, nor (round
     # wire, foil) on the turns except through the layer count. Evaluate each distinct
     # (wire, core window, conductors per layer, layers | turns, strands) case once.
-    unique_rows, inverse = _distinct_ac_cases(space, wire, kind, core, layout, turns, parallel)
+    if space.requirements.ac_resistance == "dowell":
+        unique_rows, inverse = _distinct_ac_cases(space, wire, kind, core, layout, turns,
+                                                  parallel)
+    else:  # a registered model may read every field of its windings
+        unique_rows = inverse = np.arange(len(wire))
     u_wire, u_kind = wire[unique_rows], kind[unique_rows]
     out = {}
     for label, temp in zip(("lo", "hi"), WINDING_REFERENCE_TEMPERATURES_C, strict=True):
@@ -1133,28 +1142,21 @@ def _distinct_ac_cases(space, wire, kind, core, layout, turns, parallel):
 
 
 def _ac_factors(space, wire, kind, per_layer, layers, n_turns, n_par, breadth, freq, rho):
-    """AC resistance factor per harmonic, shape (n, H), by conductor kind."""
+    """AC resistance factor per harmonic, shape (n, H), by the study's AC-resistance model
+    (`ac_resistance.AC_RESISTANCE_MODELS`)."""
     w = space.wires
-    out = np.empty((len(wire), freq.shape[1]))
-    col = (slice(None), None)
-    for code in np.unique(kind):
-        sel = kind == code
-        if code == 0:
-            out[sel] = ac_resistance.round_wire_ac_factor(
-                freq, rho, w.bare_diameter_m[wire[sel]][col], per_layer[sel][col],
-                breadth[sel][col], layers[sel][col],
-            )
-        elif code == 1:
-            # Parallel bundles act as one bundle of strands x parallel strands.
-            out[sel] = ac_resistance.litz_ac_factor(
-                freq, rho, (w.strands[wire[sel]] * n_par[sel])[col], n_turns[sel][col],
-                w.strand_diameter_m[wire[sel]][col], breadth[sel][col],
-            )
-        else:
-            out[sel] = ac_resistance.foil_ac_factor(
-                freq, rho, w.foil_thickness_m[wire[sel]][col], layers[sel][col]
-            )
-    return out
+
+    def col(values) -> np.ndarray:
+        return np.asarray(values, dtype=float)[:, None]
+
+    winding = ac_resistance.WindingAC(
+        kind=np.asarray(kind)[:, None], bare_diameter_m=col(w.bare_diameter_m[wire]),
+        strands=col(w.strands[wire]), strand_diameter_m=col(w.strand_diameter_m[wire]),
+        foil_thickness_m=col(w.foil_thickness_m[wire]), turns_per_layer=col(per_layer),
+        layers=col(layers), turns=col(n_turns), parallel=col(n_par), breadth_m=col(breadth),
+    )
+    model = ac_resistance.AC_RESISTANCE_MODELS[space.requirements.ac_resistance]
+    return np.broadcast_to(model(freq, rho, winding), (len(wire), freq.shape[-1]))
 
 
 # ---------------------------------------------------------------------------------------

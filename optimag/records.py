@@ -846,9 +846,10 @@ def _model_notes(space, candidates, metrics, i, flags: list[str], runaway_models
                 f"{amplitude:.3f} T flux amplitude"
             )
         elif name == "thermal_model":
+            thermal_name = space.requirements.thermal_model
             notes.append(
-                f"thermal: the {space.requirements.thermal_model} model "
-                f"({model.THERMAL_MODEL_WORDS[space.requirements.thermal_model]}) ran outside "
+                f"thermal: the {thermal_name} model "
+                f"({model.THERMAL_MODEL_WORDS.get(thermal_name, thermal_name)}) ran outside "
                 "a correlation's or conduction shape's published range at some operating "
                 "point; the nearest correlation was used"
             )

@@ -13,8 +13,7 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMO_STUDY = ROOT / "studies" / "cargo-bike-buck.toml"
 
 #: Heavy modules neither path may import.
-HEAVY = ("pandas", "scipy.special", "scipy", "optimag.search.run", "optimag.model",
-         "optimag.physics.coreloss")
+HEAVY = ("pandas", "scipy.special", "scipy", "optimag.search.run", "optimag.model")
 
 PROBE = """
 import contextlib, io, json, sys

@@ -10,13 +10,16 @@ validity checks cost one ``np.any`` per call and warn with `ValidityRangeWarning
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from optimag.arrays import BoolArray, FloatArray
+from optimag.codes import WireKind
 from optimag.errors import warn_outside_range
 from optimag.physics.winding import FIT_SLACK, skin_depth
+from optimag.registry import Registry, callable_entry
 
 # --------------------------------------------------------------------------- AC factors
 
@@ -416,3 +419,84 @@ def litz_ac_factor(
         breadth_m,
         skin_depth(frequency_Hz, resistivity_ohm_m),
     )
+
+
+# --------------------------------------------------------------------------- registry
+
+
+class WindingAC(NamedTuple):
+    """What an AC-resistance model knows of each winding, one row per winding, each a
+    column of shape (n, 1) (the harmonics run along the frequency array's last axis).
+
+    kind : `optimag.codes.WireKind` code (round, litz, foil) [-]
+    bare_diameter_m : copper diameter of a round wire [m]
+    strands : strands of a litz bundle [-]
+    strand_diameter_m : copper diameter of one litz strand [m]
+    foil_thickness_m : copper thickness of a foil [m]
+    turns_per_layer : turns in one layer [-]
+    layers : layers of the winding [-]
+    turns : turns of the winding [-]
+    parallel : conductors wound in parallel [-]
+    breadth_m : winding breadth (bobbin width along the layer) [m]
+    """
+
+    kind: FloatArray
+    bare_diameter_m: FloatArray
+    strands: FloatArray
+    strand_diameter_m: FloatArray
+    foil_thickness_m: FloatArray
+    turns_per_layer: FloatArray
+    layers: FloatArray
+    turns: FloatArray
+    parallel: FloatArray
+    breadth_m: FloatArray
+
+
+def layered_ac_factor(frequency_Hz: ArrayLike, resistivity_ohm_m: float,
+                      winding: WindingAC) -> FloatArray:
+    """AC resistance factor per harmonic by conductor kind: Dowell's layer model for round
+    wire (`round_wire_ac_factor`) and foil (`foil_ac_factor`), the strand-level proximity
+    factor for litz (`litz_ac_factor`, the parallel bundles as one bundle).
+
+    Parameters
+    ----------
+    frequency_Hz : array_like
+        Harmonic frequencies, shape (1, H) or (n, H) [Hz].
+    resistivity_ohm_m : float
+        Copper resistivity [ohm m].
+    winding : WindingAC
+        The windings, columns of shape (n, 1) [see `WindingAC`].
+
+    Returns
+    -------
+    ndarray
+        R_ac / R_dc per winding and harmonic, shape (n, H) [-].
+    """
+    freq = np.asarray(frequency_Hz, dtype=float)
+    kind = np.asarray(winding.kind).reshape(-1)
+    out = np.empty((len(kind), freq.shape[-1]))
+    w = winding
+    for code in np.unique(kind):
+        sel = kind == code
+        if code == WireKind.ROUND:
+            out[sel] = round_wire_ac_factor(
+                freq, resistivity_ohm_m, w.bare_diameter_m[sel], w.turns_per_layer[sel],
+                w.breadth_m[sel], w.layers[sel],
+            )
+        elif code == WireKind.LITZ:
+            out[sel] = litz_ac_factor(
+                freq, resistivity_ohm_m, w.strands[sel] * w.parallel[sel], w.turns[sel],
+                w.strand_diameter_m[sel], w.breadth_m[sel],
+            )
+        else:
+            out[sel] = foil_ac_factor(freq, resistivity_ohm_m, w.foil_thickness_m[sel],
+                                      w.layers[sel])
+    return out
+
+
+#: AC-resistance models by name, chosen by a study's ``[model] ac_resistance``: called as
+#: ``model(frequency_Hz, resistivity_ohm_m, winding)`` like `layered_ac_factor`, returning
+#: R_ac / R_dc of shape (n, H).
+AC_RESISTANCE_MODELS: Registry = Registry("AC resistance", "model.ac_resistance",
+                                          callable_entry)
+AC_RESISTANCE_MODELS.register("dowell", layered_ac_factor)

@@ -8,12 +8,13 @@ from __future__ import annotations
 
 import numpy as np
 import numpy.typing as npt
-from scipy.special import gamma
 
 from optimag.arrays import FloatArray
 from optimag.errors import warn_outside_range
+from optimag.registry import Registry, callable_entry
 
 __all__ = [
+    "CORE_LOSS_MODELS",
     "core_loss_temperature_factor",
     "dc_bias_factor",
     "igse_coefficient",
@@ -78,6 +79,8 @@ def steinmetz_loss_density(
 
 def _cos_power_integral(alpha: FloatArray) -> FloatArray:
     # int_0^{2 pi} |cos t|^a dt = 4 int_0^{pi/2} cos^a = 2 B(1/2, (a+1)/2)
+    from scipy.special import gamma  # here: validating a study needs no scipy
+
     return 2.0 * np.sqrt(np.pi) * gamma(0.5 * (alpha + 1.0)) / gamma(0.5 * alpha + 1.0)
 
 
@@ -551,3 +554,15 @@ def dc_bias_factor(
         share = (h - lo_h) / np.where(width > 0, width, 1.0)
         factor = np.where(inside, lo_f + share * (hi_f - lo_f), factor)
     return factor, h > nodes_h[..., -1]
+
+
+#: Core loss density models by name, chosen by a study's ``[model] core_loss``. A model is
+#: called as ``model(frequency_Hz, delta_b_T, rise_fraction, k, alpha, beta,
+#: fall_fraction=...)`` with the arguments of `igse_loss_density_triangle` (arrays of shape
+#: (n, K): candidates x operating points; a DCM point has rise + fall < 1) and returns the
+#: loss density [W/m^3] of the same shape. The design model multiplies it by the
+#: temperature factor, the DC-bias factor and Ve, and adds the i²GSE relaxation term. An
+#: operating point with an imposed current waveform (a waveform file, a line cycle) keeps
+#: the piecewise-linear iGSE of its own flux (`igse_loss_density_piecewise`).
+CORE_LOSS_MODELS: Registry = Registry("core loss", "model.core_loss", callable_entry)
+CORE_LOSS_MODELS.register("igse", igse_loss_density_triangle)

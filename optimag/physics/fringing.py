@@ -18,6 +18,7 @@ import numpy.typing as npt
 from optimag.arrays import FloatArray
 from optimag.constants import MU0
 from optimag.errors import warn_outside_range
+from optimag.registry import Registry
 
 _TWO_OVER_PI = 2.0 / np.pi
 
@@ -584,20 +585,26 @@ class GapModel:
     outside_range: Callable[[FloatArray, GapGeometry], FloatArray]
 
 
-#: Gap-reluctance models by the name given to `gap_for_inductance`.
-GAP_RELUCTANCE_MODELS: dict[str, GapModel] = {
-    "ideal": GapModel(_ideal_reluctance_and_slope, _ideal_area_bound, _never_outside),
-    "mclyman": GapModel(
-        _add_outer_gaps(_mclyman_reluctance_and_slope), _mclyman_area_bound, _mclyman_outside
-    ),
-    "muhlethaler": GapModel(
-        _add_outer_gaps(_muhlethaler_reluctance_and_slope), _muhlethaler_area_bound,
-        _muhlethaler_outside,
-    ),
-    "leg_edges": GapModel(
-        _leg_edges_reluctance_and_slope, _leg_edges_area_bound, _leg_edges_outside
-    ),
-}
+def _gap_model_entry(entry: object) -> None:
+    if not isinstance(entry, GapModel):
+        raise TypeError("a gap reluctance model is a fringing.GapModel (reluctance_and_slope, "
+                        f"face_area_bound, outside_range), got {type(entry).__name__}")
+
+
+#: Gap-reluctance models by the name given to `gap_for_inductance` and chosen by a study's
+#: ``[model] fringing``; register a `GapModel` to add one.
+GAP_RELUCTANCE_MODELS: Registry[GapModel] = Registry(
+    "gap reluctance", "model.fringing", _gap_model_entry)
+GAP_RELUCTANCE_MODELS.register(
+    "leg_edges", GapModel(_leg_edges_reluctance_and_slope, _leg_edges_area_bound,
+                          _leg_edges_outside))
+GAP_RELUCTANCE_MODELS.register("mclyman", GapModel(
+    _add_outer_gaps(_mclyman_reluctance_and_slope), _mclyman_area_bound, _mclyman_outside))
+GAP_RELUCTANCE_MODELS.register("muhlethaler", GapModel(
+    _add_outer_gaps(_muhlethaler_reluctance_and_slope), _muhlethaler_area_bound,
+    _muhlethaler_outside))
+GAP_RELUCTANCE_MODELS.register(
+    "ideal", GapModel(_ideal_reluctance_and_slope, _ideal_area_bound, _never_outside))
 
 #: Gap-reluctance model used when a study names none.
 DEFAULT_GAP_MODEL = "leg_edges"

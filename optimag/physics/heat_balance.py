@@ -441,7 +441,8 @@ def _fixed_point(
     inside = np.ones(count, dtype=bool)
     if np.any(found):
         inside[found] = inside_range(rise[found], _take(part, found))
-        warn_outside_range(~inside, RANGE_MESSAGES[model])
+        warn_outside_range(~inside, RANGE_MESSAGES.get(
+            model, f"thermal model {model}: outside its stated range"))
     return ThermalEquilibrium(
         temperature.reshape(shape)[()],
         loss.reshape(shape)[()],

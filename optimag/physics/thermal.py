@@ -19,6 +19,7 @@ from numpy.typing import ArrayLike
 from optimag.arrays import BoolArray, FloatArray
 from optimag.errors import warn_outside_range
 from optimag.physics.convection import _radiation_h, face_coefficients
+from optimag.registry import Registry
 
 #: McLyman's law: dT = MCLYMAN_COEFFICIENT * psi ** MCLYMAN_EXPONENT, psi in W/cm^2.
 MCLYMAN_COEFFICIENT = 450.0
@@ -467,16 +468,36 @@ def _inside_faces_laminar(rise_K: FloatArray, part: ThermalContext) -> BoolArray
 
 RangeFlags = Callable[[FloatArray, ThermalContext], BoolArray]
 
+
+class ThermalModel(NamedTuple):
+    """A thermal model: the conductance from the part to its surroundings at a rise
+    (``conductance(rise_K, part) -> (W/K, ...)`` as the built-in ones) and the per-part
+    flag "inside the published range" on the settled state."""
+
+    conductance: ConductanceModel
+    inside_range: RangeFlags
+
+
+def _thermal_model_entry(entry: object) -> None:
+    if not (isinstance(entry, ThermalModel) and callable(entry.conductance)
+            and callable(entry.inside_range)):
+        raise TypeError("a thermal model is a thermal.ThermalModel(conductance, "
+                        f"inside_range) of two callables, got {type(entry).__name__}")
+
+
 #: Thermal models by name: (conductance at a rise, per-part flag "inside the published
 #: range" on the final state). "faces" is the face-by-face model (default); the others are
 #: whole-part laws kept for comparison and for the uncertainty band.
-CONDUCTANCE_MODELS: dict[str, tuple[ConductanceModel, RangeFlags]] = {
-    "faces": (conductance_faces, _inside_faces),
-    "faces_laminar": (conductance_faces_laminar, _inside_faces_laminar),
-    "convection": (conductance_convection, _inside_convection),
-    "mclyman": (conductance_mclyman, _inside_mclyman),
-    "ferrite_rth": (conductance_ferrite_rth, _inside_ferrite),
-}
+#: A study's ``[model] thermal`` chooses among them; register a `ThermalModel` to add one.
+CONDUCTANCE_MODELS: Registry[ThermalModel] = Registry(
+    "thermal", "model.thermal", _thermal_model_entry)
+CONDUCTANCE_MODELS.register("faces", ThermalModel(conductance_faces, _inside_faces))
+CONDUCTANCE_MODELS.register(
+    "faces_laminar", ThermalModel(conductance_faces_laminar, _inside_faces_laminar),
+    in_study=False)  # the uncertainty band's alternative only
+CONDUCTANCE_MODELS.register("convection", ThermalModel(conductance_convection, _inside_convection))
+CONDUCTANCE_MODELS.register("mclyman", ThermalModel(conductance_mclyman, _inside_mclyman))
+CONDUCTANCE_MODELS.register("ferrite_rth", ThermalModel(conductance_ferrite_rth, _inside_ferrite))
 
 #: What each model's range flag covers, for messages.
 RANGE_MESSAGES = {

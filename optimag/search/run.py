@@ -256,8 +256,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
             "cooling": space.requirements.cooling.mode,
             "temperature_limit_applies_to": "hot spot",
             "outside_fit": space.requirements.outside_fit,
-            "core_loss": "iGSE",
-            "ac_resistance": "Dowell/Sullivan",
+            "core_loss": space.requirements.core_loss,
+            "ac_resistance": space.requirements.ac_resistance,
             "harmonics": int(space.operating.harmonics_A.shape[1]),
             "winding_loss_temperature": "interpolated between "
             f"{model.WINDING_REFERENCE_TEMPERATURES_C[0]} and "

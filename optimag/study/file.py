@@ -117,6 +117,8 @@ Text = Annotated[str, Strict()]
 Title = Annotated[str, Strict(), StringConstraints(max_length=TITLE_CHARACTERS)]
 Name = Annotated[str, Strict(), StringConstraints(min_length=1, max_length=ID_CHARACTERS)]
 Slug = Annotated[str, Strict(), StringConstraints(pattern=r"^[a-z0-9-]+$", max_length=64)]
+#: A model's name in its registry (`optimag.registry`); checked against the registry.
+ModelName = Annotated[str, Strict(), StringConstraints(max_length=64)]
 
 #: Ripple fraction used when a study states neither an inductance nor a ripple
 #: fraction: 40 % peak-to-peak of the average current (common practice, no source).
@@ -368,13 +370,33 @@ class CatalogRef(_Section):
 class ModelChoices(_Section):
     """``[model]``: which interchangeable physics models to use."""
 
-    fringing: Literal["leg_edges", "mclyman", "muhlethaler", "ideal"] = "leg_edges"
-    """Gap fringing model: fringing at the gapped legs' edges, McLyman's fringing factor,
-    Mühlethaler's reluctance model, or none."""
-    thermal: Literal["faces", "convection", "mclyman", "ferrite_rth"] = "faces"
-    """Temperature-rise model: face by face (convection per face plus radiation, with the
-    [cooling] paths), whole-part natural convection plus radiation, McLyman's empirical
-    rise, or the ferrite thermal-resistance rule."""
+    fringing: ModelName = "leg_edges"
+    """Gap fringing model: "leg_edges" (fringing at the gapped legs' edges), "mclyman"
+    (McLyman's fringing factor), "muhlethaler" (Mühlethaler's reluctance model), "ideal"
+    (none), or a model registered in `optimag.physics.fringing.GAP_RELUCTANCE_MODELS`."""
+    thermal: ModelName = "faces"
+    """Temperature-rise model: "faces" (convection per face plus radiation, with the
+    [cooling] paths), "convection" (whole-part natural convection plus radiation),
+    "mclyman" (McLyman's empirical rise), "ferrite_rth" (the ferrite thermal-resistance
+    rule), or a model registered in `optimag.physics.thermal.CONDUCTANCE_MODELS`."""
+    core_loss: ModelName = "igse"
+    """Core-loss model: "igse" (improved generalised Steinmetz on the design's flux
+    waveform), or a model registered in `optimag.physics.coreloss.CORE_LOSS_MODELS`."""
+    ac_resistance: ModelName = "dowell"
+    """Winding AC-resistance model: "dowell" (Dowell's layers for round wire and foil, the
+    strand proximity factor for litz), or a model registered in
+    `optimag.physics.ac_resistance.AC_RESISTANCE_MODELS`."""
+
+    @field_validator("fringing", "thermal", "core_loss", "ac_resistance")
+    @classmethod
+    def _registered(cls, value: str, info: ValidationInfo) -> str:
+        from optimag.registry import study_registries
+
+        names = study_registries()[info.field_name].study_names()
+        if value not in names:
+            raise ValueError(f"must be one of {', '.join(repr(n) for n in names)} (the "
+                             f"registered models), got {value!r}")
+        return value
     outside_fit: Literal["exclude", "flag"] = "exclude"
     """A material used outside its loss fit (frequency or flux): "exclude" eliminates the
     design (counted as material_range); "flag" keeps it, marked in every output."""

@@ -272,8 +272,12 @@ def _section_doc(model: type[BaseModel]) -> str:
 
 
 def study_reference() -> str:
-    """The study-file reference as Markdown."""
+    """The study-file reference as Markdown (the [model] choices: the built-in models of
+    `optimag.registry`'s registries, as a fresh process has them)."""
+    from optimag.registry import study_registries
+
     _describe_fields()
+    registries = study_registries()
     lines = [
         "# Study-file reference",
         "",
@@ -310,6 +314,9 @@ def study_reference() -> str:
             kind, allowed = describe_type(field.annotation, list(field.metadata))
             if section == "tolerance" and key in SPREAD_DEFAULTS:
                 allowed += f"; spread <= {_number(SPREAD_DEFAULTS[key][2])}"
+            if section == "model" and key in registries:
+                names = ", ".join(f'"{n}"' for n in registries[key].study_names())
+                allowed = f"one of {names}, or a model registered from Python"
             lines.append(
                 "| "
                 + " | ".join(
