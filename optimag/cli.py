@@ -14,6 +14,11 @@ from optimag import __version__
 from optimag.errors import ClusterError, InputError, Problem, RunFolderError, StorageError
 from optimag.ranges import BATCH, SEED, TRIALS
 
+#: Topologies `optimag init` writes (kept equal to `optimag.study.template`'s, tested;
+#: written out so the command line starts without loading the study package).
+INIT_TOPOLOGIES = ("buck", "boost", "buck-boost", "multiphase-buck", "pfc-boost",
+                   "inverter-filter")
+
 #: Shown under `optimag --help`.
 EXAMPLES = """examples:
   optimag init my-buck --topology buck      write a commented starting study my-buck.toml
@@ -483,7 +488,7 @@ def build_parser() -> argparse.ArgumentParser:
         epilog="example: optimag init my-boost --topology boost",
     )
     init.add_argument("name", help="study name, or the .toml file to write")
-    init.add_argument("--topology", choices=["buck", "boost", "buck-boost"], default="buck",
+    init.add_argument("--topology", choices=list(INIT_TOPOLOGIES), default="buck",
                       help="converter topology (default buck)")
     init.add_argument("--catalog", help="catalogue folder (default: the demo catalogue)")
     check = commands.add_parser("check", help="validate a study file or a catalogue folder")

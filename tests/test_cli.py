@@ -155,3 +155,20 @@ def test_version_and_examples_in_help():
     assert helped.returncode == 0
     assert "examples:" in helped.stdout and "optimag init" in helped.stdout
     assert "REFERENCE.md" in helped.stdout
+
+
+@pytest.mark.parametrize("topology", ["multiphase-buck", "pfc-boost", "inverter-filter"])
+def test_init_writes_a_valid_study_beyond_dc_dc(tmp_path, topology):
+    """The topologies beyond DC-DC get a commented study that `optimag check` accepts (their
+    example studies are explored in tests/test_example_line_studies.py)."""
+    from optimag.cli import INIT_TOPOLOGIES
+    from optimag.study.template import TEMPLATE_TOPOLOGIES
+
+    assert INIT_TOPOLOGIES == TEMPLATE_TOPOLOGIES
+    made = optimag("init", f"my-{topology}", "--topology", topology, cwd=tmp_path)
+    assert made.returncode == 0, made.stderr
+    text = (tmp_path / f"my-{topology}.toml").read_text(encoding="utf-8")
+    assert f'topology = "{topology}"' in text
+    assert ("CAUTION" in text) == (topology != "multiphase-buck")
+    checked = optimag("check", f"my-{topology}.toml", cwd=tmp_path)
+    assert checked.returncode == 0, checked.stderr + checked.stdout

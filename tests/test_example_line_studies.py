@@ -21,6 +21,9 @@ def test_line_cycle_study_runs_and_reports_the_line_cycle(tmp_path, name):
     folder = optimag.write_run(result, tmp_path / "run")
     report = (folder / "report.html").read_text(encoding="utf-8")
     assert "Over the line cycle" in report
+    # The operating-point table shows the keys the topology reads.
+    assert ("Line RMS [V]" if name.startswith("kiln") else "DC link [V]") in report
+    assert "Input [V]" not in report
     records = json.loads((folder / "shortlist.json").read_text(encoding="utf-8"))
     records = records["designs"] if isinstance(records, dict) else records
     assert records

@@ -704,13 +704,28 @@ def elimination_table(run: RunData) -> pd.DataFrame:
     )
 
 
+#: Operating-point keys the report shows, in order, with their column heading; a column
+#: appears when some point gives it (a DC-DC study's points give the first three).
+POINT_COLUMNS = {
+    "input_V": "Input [V]", "output_V": "Output [V]", "load_A": "Load [A]",
+    "line_V_rms": "Line RMS [V]", "power_W": "Power [W]", "dc_link_V": "DC link [V]",
+    "grid_V_rms": "Grid RMS [V]", "grid_A_rms": "Grid RMS [A]",
+    "power_factor": "Power factor", "line_frequency_Hz": "Line [Hz]",
+    "current_waveform": "Current waveform",
+}
+_LINE_KEYS = ("line_V_rms", "dc_link_V")
+
+
 def operating_points_table(run: RunData) -> pd.DataFrame:
-    """The study's operating points: name, input and output voltage, load, time share."""
-    columns = ["name", "input_V", "output_V", "load_A", "time_share"]
-    return pd.DataFrame(
-        [{c: point.get(c) for c in columns} for point in run.meta["operating_points"]],
-        columns=columns,
-    )
+    """The study's operating points: name, the keys they give (`POINT_COLUMNS`; the line
+    frequency and power factor only for line-cycle points), time share."""
+    points = run.meta["operating_points"]
+    line = any(any(k in p for k in _LINE_KEYS) for p in points)
+    given = [key for key in POINT_COLUMNS if any(key in p for p in points)
+             and (line or key not in ("line_frequency_Hz", "power_factor"))]
+    columns = ["name", *given, "time_share"]
+    return pd.DataFrame([{c: point.get(c) for c in columns} for point in points],
+                        columns=columns)
 
 
 _UNIT_SUFFIXES = {

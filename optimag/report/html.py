@@ -702,13 +702,15 @@ def _ruled_out(run: data.RunData) -> str:
 
 def _asked(run: data.RunData) -> str:
     points = data.operating_points_table(run)
+    given = list(points.columns[1:-1])
     point_table = _table(
-        ["Operating point", "Input [V]", "Output [V]", "Load [A]", "Time share"],
+        ["Operating point", *(data.POINT_COLUMNS[c] for c in given), "Time share"],
         (
-            [r.name, r.input_V, r.output_V, r.load_A, f"{100 * float(r.time_share):.0f} %"]
-            for r in points.itertuples(index=False)
+            [row["name"], *("" if pd.isna(row[c]) else row[c] for c in given),
+             f"{100 * float(row['time_share']):.0f} %"]
+            for _, row in points.iterrows()
         ),
-        [False, True, True, True, True],
+        [False, *(c != "current_waveform" for c in given), True],
     )
     limits = data.limits_table(run)
     limit_table = _table(

@@ -282,11 +282,12 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         "wall_time_s": round(outcome.wall_time_s, 4),
         "candidates_per_s": round(outcome.total / max(outcome.wall_time_s, 1e-9), 1),
         "limits": limits,
+        # Each point as the study gives it (the keys its topology reads).
         "operating_points": [
-            {"name": p.name, "input_V": p.input_V, "output_V": p.output_V, "load_A": p.load_A,
-             "time_share": p.time_share}
+            p.model_dump(mode="json", exclude_none=True, exclude_defaults=False)
             for p in study.operating_points
         ],
+        "topology": study.converter.topology,
         "currency": study.cost.currency,
         # The price and hours behind energy_cost and lifetime_cost (None: not set).
         "energy": {"energy_price_per_kWh": study.cost.energy_price_per_kWh,

@@ -25,14 +25,50 @@ TEMPLATE_POINTS: dict[str, tuple[tuple[str, float, float, float, float], ...]] =
     ),
 }
 
+#: Invented points of the topologies beyond DC-DC: (name, {key: value}, time_share).
+TEMPLATE_OTHER_POINTS: dict[str, tuple[tuple[str, dict[str, float], float], ...]] = {
+    "multiphase-buck": (
+        ("full-load", {"input_V": 12.0, "output_V": 1.2, "load_A": 40.0}, 0.4),
+        ("light-load", {"input_V": 12.0, "output_V": 1.2, "load_A": 15.0}, 0.6),
+    ),
+    "pfc-boost": (
+        ("nominal-line", {"line_V_rms": 230.0, "output_V": 400.0, "power_W": 250.0}, 0.8),
+        ("low-line", {"line_V_rms": 195.0, "output_V": 400.0, "power_W": 250.0}, 0.2),
+    ),
+    "inverter-filter": (
+        ("full-export", {"dc_link_V": 400.0, "grid_V_rms": 230.0, "grid_A_rms": 4.0,
+                         "power_factor": 1.0}, 0.6),
+        ("reactive", {"dc_link_V": 400.0, "grid_V_rms": 230.0, "grid_A_rms": 2.0,
+                      "power_factor": 0.8}, 0.4),
+    ),
+}
+
+#: [converter] keys beyond topology and frequency, per topology.
+TEMPLATE_CONVERTER_KEYS = {
+    "multiphase-buck": "phases = 2                      # interleaved phases, one inductor each",
+    "pfc-boost": "line_steps = 32                 # instants walked over a quarter line cycle",
+    "inverter-filter": 'modulation = "unipolar"         # or "bipolar"\n'
+                       "line_steps = 32                 # instants over a half line cycle",
+}
+
 TOPOLOGY_NOTES = {
     "buck": "A buck steps down: output_V must stay below input_V at every point.",
     "boost": "A boost steps up: output_V must stay above input_V at every point.",
     "buck-boost": "The inverting buck-boost: write output_V as a magnitude (12 for -12 V).",
+    "multiphase-buck": "load_A is the total of all phases; each phase's inductor carries "
+                       "its share.",
+    "pfc-boost": "A PFC boost: output_V (the bus) above the line's peak; power_W drawn "
+                 "from the line. CAUTION: mains voltage.",
+    "inverter-filter": "A full-bridge inverter: dc_link_V above the grid's peak. CAUTION: "
+                       "grid voltage.",
 }
 
 #: Switching frequency per topology [kHz] (invented round values).
-TEMPLATE_FREQUENCY_KHZ = {"buck": 250, "boost": 150, "buck-boost": 200}
+TEMPLATE_FREQUENCY_KHZ = {"buck": 250, "boost": 150, "buck-boost": 200,
+                          "multiphase-buck": 500, "pfc-boost": 100, "inverter-filter": 40}
+
+#: Every topology `optimag init` can write.
+TEMPLATE_TOPOLOGIES = (*TEMPLATE_POINTS, *TEMPLATE_OTHER_POINTS)
 
 _SLUG = re.compile(r"^[a-z0-9-]+$")
 
@@ -47,20 +83,23 @@ def study_slug(text: str) -> str:
 def study_template(name: str, topology: str, catalog_path: str) -> str:
     """TOML text of a commented study named ``name`` for ``topology`` searching the
     catalogue at ``catalog_path`` (relative to the study file, or absolute)."""
-    if topology not in TEMPLATE_POINTS:
+    if topology not in TEMPLATE_TOPOLOGIES:
         raise ValueError(f"unknown topology {topology!r}")
     if not _SLUG.match(name):
         raise ValueError(f"{name!r} is not a study name (lowercase letters, digits, '-')")
+    if topology in TEMPLATE_POINTS:
+        entries = [(point, {"input_V": vin, "output_V": vout, "load_A": load}, share)
+                   for point, vin, vout, load, share in TEMPLATE_POINTS[topology]]
+    else:
+        entries = list(TEMPLATE_OTHER_POINTS[topology])
     points = "\n".join(
-        f"""[[operating_points]]
-name = "{point}"
-input_V = {vin:g}
-output_V = {vout:g}
-load_A = {load:g}
-time_share = {share:g}
-"""
-        for point, vin, vout, load, share in TEMPLATE_POINTS[topology]
+        f'[[operating_points]]\nname = "{point}"\n'
+        + "".join(f"{key} = {value:g}\n" for key, value in keys.items())
+        + f"time_share = {share:g}\n"
+        for point, keys, share in entries
     )
+    extra = TEMPLATE_CONVERTER_KEYS.get(topology)
+    extra = f"\n{extra}" if extra else ""
     catalog = catalog_path.replace("\\", "/").replace('"', '\\"')
     return f"""# Study "{name}": a {topology} converter's power inductor.
 #
@@ -76,8 +115,8 @@ name = "{name}"                 # names the run folder: lowercase letters, digit
 title = "{topology} converter inductor (edit me)"
 
 [converter]
-topology = "{topology}"          # buck, boost or buck-boost (inverting)
-switching_frequency_kHz = {TEMPLATE_FREQUENCY_KHZ[topology]}
+topology = "{topology}"          # see studies/REFERENCE.md for every topology
+switching_frequency_kHz = {TEMPLATE_FREQUENCY_KHZ[topology]}{extra}
 
 # One [[operating_points]] table per load case. time_share is the share of the operating
 # time spent there (they sum to 1); it weights the loss objective.
