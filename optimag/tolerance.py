@@ -115,7 +115,7 @@ def design_spreads(
     n = len(designs)
     powder = m.kind[designs.material] == MaterialKind.POWDER
     gapped = np.asarray(gap_m, dtype=float) > 0
-    spacer = _spacer_gapped(designs)
+    spacer = space.gap_option_spacer(designs.gap_option)
 
     def pick(*choices: tuple[np.ndarray, Spread]) -> tuple[np.ndarray, np.ndarray]:
         width, normal = np.zeros(n), np.zeros(n, dtype=bool)
@@ -153,16 +153,6 @@ def design_spreads(
         normal["wire_diameter"] = everywhere.copy()
     half["ambient"], normal["ambient"] = pick((everywhere, spec.ambient_C))
     return DesignSpreads(half_width=half, normal=normal)
-
-
-def _spacer_gapped(designs: model.Candidates) -> np.ndarray:
-    """True where a design's gap is made by spacers in every leg (when the model knows
-    gap kinds); otherwise every gap is a ground centre-leg gap."""
-    kind = getattr(designs, "gap_kind", None)
-    if kind is None:
-        return np.zeros(len(designs), dtype=bool)
-    codes = getattr(model, "GAP_KIND_CODES", {"centre": 0, "spacer": 1})
-    return np.asarray(kind) == codes.get("spacer", 1)
 
 
 def _deviations_from_unit(

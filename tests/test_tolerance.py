@@ -317,3 +317,19 @@ def test_every_shortlisted_record_carries_its_yield_and_run_json_the_seed(tmp_pa
     shortlisted = {r["design_id"] for r in result.shortlist_records}
     analysed = result.pareto[result.pareto["yield_fraction"].notna()]
     assert set(analysed["design_id"]) == shortlisted
+
+
+def test_a_spacer_gap_takes_the_spacer_spread(tmp_path):
+    """The gap of a design gapped by a spacer scatters by the spacer's spread, a ground
+    centre leg by the grinding spread (the spreads are the study's; bookkeeping check)."""
+    _, space, _, _ = one_design(tmp_path)
+    space = dataclasses.replace(space, gap_kinds=("centre", "spacer"))
+    designs = model.Candidates.from_arrays(core=0, stack=1, material=0, turns=30,
+                                           gap_option=[0, 1], wire=0, parallel=1)
+    gap = model.evaluate(space, designs)["gap_m"]
+    assert np.all(gap > 0)
+    spec = spec_with(gap_ground_mm=0.02, gap_spacer_mm={"spread": 0.05,
+                                                         "distribution": "uniform"})
+    spreads = tolerance.design_spreads(space, designs, gap, spec)
+    np.testing.assert_allclose(spreads.half_width["gap"], [0.02e-3, 0.05e-3])
+    assert spreads.normal["gap"].tolist() == [True, False]

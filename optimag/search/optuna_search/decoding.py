@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from optimag import model
+from optimag.codes import MaterialKind
 from optimag.search.optuna_search.custom import CUSTOM_PARAM_PREFIX, clip_height
 
 if TYPE_CHECKING:
@@ -103,7 +104,8 @@ def _decode(problem: OptunaProblem, numbers: Sequence[int],
     cuttable = model.gap_allowed(space, safe_core, material)
     if problem.custom is not None:
         # Custom cores are ferrite E or pot shapes: gappable with a ferrite material.
-        cuttable = np.where(custom, space.materials.kind[material] == 0, cuttable)
+        cuttable = np.where(custom, space.materials.kind[material] == MaterialKind.FERRITE,
+                             cuttable)
     gap_option = np.where(cuttable, gap_option, 0)
     dims = np.full((n, len(problem.dimension_ranges)), np.nan)
     for j, (name, (low, _high)) in enumerate(problem.dimension_ranges.items()):
