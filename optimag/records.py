@@ -870,6 +870,18 @@ def _model_notes(space, candidates, metrics, i, flags: list[str], runaway_models
             f"loss fit of {m.ids[mat]} covers (fitted without bias; no premagnetisation "
             "table), and ferrite loss rises with DC bias"
         )
+    if op.line_cycle:
+        span = "a quarter" if op.topology == "pfc-boost" else "half"
+        notes.append(
+            f"line cycle: losses averaged over {op.n_instants // op.n_points} instants of "
+            f"{span} line cycle, each a switching period at the line's value then "
+            "(quasi-static); the line-frequency current's skin effect is neglected"
+            + ("; the filter inductor's own line-frequency voltage drop is neglected"
+               if op.topology == "inverter-filter" else "")
+        )
+    if op.from_file.any():
+        notes.append("current waveform file: core loss by iGSE over the whole period's "
+                     "peak-to-peak flux (minor loops are not separated)")
     wire = candidates.wire[i]
     gap = metrics["gap_m"][i]
     if gap > 0 and space.wires.kind[wire] == WireKind.FOIL:

@@ -28,6 +28,8 @@ def test_line_cycle_study_runs_and_reports_the_line_cycle(tmp_path, name):
     records = records["designs"] if isinstance(records, dict) else records
     assert records
     for record in records:
+        assert any(note.startswith("line cycle: losses averaged over 24 instants")
+                   for note in record["model_notes"])
         parts = {p["name"]: p for p in record["line_cycle"]}
         assert set(parts) == {p["name"] for p in record["per_operating_point"]}
         for point in record["per_operating_point"]:
