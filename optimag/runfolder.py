@@ -35,7 +35,7 @@ def default_run_dir(study, root: Path | None = None) -> Path:
 #: Files of a run folder, in the order they are put in place (run.json last: a folder
 #: whose run.json is new holds nothing older).
 RUN_FILES = ("study.toml", "pareto.csv", "shortlist.csv", "shortlist.xlsx", "shortlist.json",
-             "front.json", REPORT_NAME, "run.json")
+             "front.json", "near_front.json", REPORT_NAME, "run.json")
 
 
 def continues_optuna_run(folder: Path | str, storage_url: str | None) -> bool:
@@ -108,7 +108,8 @@ def write_run(result: ExploreResult, run_dir: Path | str | None = None, *,
             )
             export.write_tables(staging, result.pareto, result.shortlist_records,
                                 currency=str(result.record.get("currency", "")),
-                                front_records=result.front_records)
+                                front_records=result.front_records,
+                                near_front=result.near_front)
             result.record["report"] = "written" if report else "not requested"
             _write_record(result, staging)
             if report:

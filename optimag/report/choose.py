@@ -69,3 +69,61 @@ def design_rows(run: RunData) -> dict[str, Any]:
         "operating_hours": energy.get("operating_hours"),
         "designs": rows,
     }
+
+
+#: What-if limits: (near-front column, words, study key) in slider order.
+WHATIF_LIMITS: tuple[tuple[str, str, str], ...] = (
+    ("hotspot_temperature_C", "Hot-spot temperature [°C]", "max_temperature_C"),
+    ("box_height_mm", "Height [mm]", "max_height_mm"),
+    ("footprint_mm2", "Footprint [mm²]", "max_footprint_mm2"),
+    ("weighted_loss_W", "Weighted loss [W]", "max_loss_W"),
+    ("volume_cm3", "Boxed volume [cm³]", "max_volume_cm3"),
+)
+
+#: Significant digits of the what-if numbers in the page (the page's own front is
+#: computed on these values).
+WHATIF_DIGITS = 6
+
+
+def _rounded(values: list[float]) -> list[float]:
+    return [float(f"{v:.{WHATIF_DIGITS}g}") for v in values]
+
+
+def whatif_data(run: RunData) -> dict[str, Any] | None:
+    """The near-front designs for the page's what-if limits, or None when the run kept
+    none (optuna runs, runs written before it, nothing feasible)."""
+    near = run.near_front
+    if not near or not near.get("columns") or not near["columns"].get("core"):
+        return None
+    columns = near["columns"]
+    objectives = [name for name in near["objectives"] if name in _objective_columns()]
+    limits = []
+    for column, words, key in WHATIF_LIMITS:
+        values = columns[column]
+        limits.append({"column": column, "words": words, "key": key,
+                       "study": near["limits"].get(column),
+                       "low": min(values), "high": max(values)})
+    numeric = [c for c, _, _ in WHATIF_LIMITS] + [_objective_columns()[o] for o in objectives]
+    labels = [f"{core} · {material} · {stack}× · {turns} t · {wire} ×{parallel}"
+              for core, material, stack, turns, wire, parallel in zip(
+                  columns["core"], columns["material"], columns["stack"], columns["turns"],
+                  columns["wire"], columns["parallel"], strict=True)]
+    return {
+        "objectives": objectives,
+        "titles": [records.header(_objective_columns()[o], run.currency) for o in objectives],
+        "objective_columns": [_objective_columns()[o] for o in objectives],
+        "layers": near.get("layers"),
+        "cap": near.get("cap"),
+        "limits": limits,
+        "columns": {name: _rounded(columns[name]) for name in dict.fromkeys(numeric)},
+        "label": labels,
+        "design_id": columns["design_id"],
+        "layer": columns["layer"],
+        "study_file": str(run.folder / "study.toml"),
+    }
+
+
+def _objective_columns() -> dict[str, str]:
+    from optimag.model import OBJECTIVE_COLUMNS
+
+    return OBJECTIVE_COLUMNS

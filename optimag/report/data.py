@@ -55,6 +55,11 @@ WINDING_FIELDS = records.WINDING_FIELDS
 #: Record fields a front design off the short-list may lack (rank; the Monte Carlo yield
 #: when only the short-list was analysed).
 UNRANKED_OPTIONAL = ("rank", "yield_fraction", "yield_driver", "tolerance")
+#: Columns of near_front.json (besides one per objective).
+NEAR_FRONT_COLUMNS = (
+    "core", "material", "wire", "stack", "turns", "parallel", "hotspot_temperature_C",
+    "box_height_mm", "footprint_mm2", "volume_cm3", "weighted_loss_W", "design_id", "layer",
+)
 #: Record fields added after runs were written that the report can do without.
 LATER_FIELDS = ("energy_cost", "lifetime_cost")
 RUN_FIELDS = (
@@ -120,6 +125,8 @@ class RunData:
     started: datetime | None = None
     #: Records of every front design (``front.json``; runs without it: the short-list).
     front_records: list[dict[str, Any]] = field(default_factory=list)
+    #: The feasible designs near the front, columnar (``near_front.json``), or None.
+    near_front: dict[str, Any] | None = None
 
     @property
     def objectives(self) -> list[str]:
@@ -304,6 +311,20 @@ def load_run(run_dir: Path | str) -> RunData:
                 _check_record(record, front_path, position, problems, ranked=False)
             front_records = designs
 
+    near_front = None
+    near_path = folder / "near_front.json"
+    if near_path.exists():
+        near_front = _read_json(near_path, problems)
+        columns = near_front.get("columns") if isinstance(near_front, dict) else None
+        if near_front is not None and not isinstance(columns, dict):
+            problems.append(_problem(near_path, "columns", "expected an object of columns"))
+        elif columns is not None:
+            gone = [c for c in NEAR_FRONT_COLUMNS if c not in columns]
+            if gone:
+                problems.append(_problem(near_path, "columns", f"missing: {', '.join(gone)}"))
+            elif len({len(v) for v in columns.values()}) > 1:
+                problems.append(_problem(near_path, "columns", "columns differ in length"))
+
     if problems:
         raise InputError(problems)
 
@@ -317,6 +338,7 @@ def load_run(run_dir: Path | str) -> RunData:
         study_text=study_text,
         started=folder_time(folder),
         front_records=front_records or list(shortlist),
+        near_front=near_front,
     )
 
 

@@ -161,7 +161,7 @@ def write_xlsx(path: Path, design_records: list[dict], currency: str = "") -> No
 
 def write_tables(
     run_dir: Path, pareto: pd.DataFrame, shortlist_records: list[dict], currency: str = "",
-    front_records: list[dict] | None = None,
+    front_records: list[dict] | None = None, near_front: dict | None = None,
 ) -> None:
     """Write pareto.csv and the short-list as csv, xlsx and json into ``run_dir``.
 
@@ -177,3 +177,7 @@ def write_tables(
     if front_records:
         front = json.dumps({"designs": front_records}, separators=(",", ":"), allow_nan=False)
         _atomic(run_dir / "front.json", lambda temp: temp.write_text(front, encoding="utf-8"))
+    if near_front:
+        near = json.dumps(near_front, separators=(",", ":"), allow_nan=False)
+        _atomic(run_dir / "near_front.json",
+                lambda temp: temp.write_text(near, encoding="utf-8"))

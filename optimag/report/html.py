@@ -263,7 +263,7 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
             )
         )
     body = (
-        f'<div class="grid">{"".join(cards)}</div>' + _hand_sizing(run, hand)
+        f'<div class="grid">{"".join(cards)}</div>' + _whatif_card(run) + _hand_sizing(run, hand)
         + _custom_comparison(run) + _robust(run, front, slots)
     )
     lede = (
@@ -281,6 +281,28 @@ def _tradeoff(run: data.RunData, front: Any, slots: _FigureSlots) -> str:
 
 def _number(value: Any, fmt: str) -> str:
     return "—" if value is None or pd.isna(value) else format(float(value), fmt)
+
+
+def _whatif_card(run: data.RunData) -> str:
+    """Sliders for the limits and objective ranges; the page recomputes the front."""
+    if run.near_front is None or not (run.near_front.get("columns") or {}).get("core"):
+        return ""
+    near = run.near_front
+    layers = near.get("layers")
+    held = (f"the first {int(layers)} non-dominated layers ({int(near['count']):,} designs)"
+            if layers is not None else f"every feasible design ({int(near['count']):,})")
+    note = (
+        f"The page holds {held} of this run; moving a slider keeps the designs within the "
+        "limits and objective ranges and recomputes their front here. Teal: the front "
+        "under these limits; sand: designs within them; grey: designs they rule out."
+    )
+    return (
+        '<div class="card" id="whatif" style="margin-top:14px"><h3>What if the limits were '
+        'different?</h3><div id="whatif-sliders" class="controls"></div>'
+        '<div id="whatif-status" class="note"></div><div id="whatif-warning"></div>'
+        '<div id="whatif-plot" style="height:440px"></div>'
+        f'<p class="note">{escape(note)}</p></div>'
+    )
 
 
 def _hand_sizing(run: data.RunData, table: pd.DataFrame) -> str:
@@ -790,11 +812,17 @@ article.sheet.opened { outline: 2px solid var(--ochre); outline-offset: 4px; }
 
 
 def _designs_block(run: data.RunData, front: Any) -> str:
-    """Compact rows of every front and reference design, for choosing in the page."""
+    """Compact rows of every front and reference design and the near-front designs of
+    the what-if limits, for choosing in the page."""
     if front.empty:
         return ""
-    return ('<script type="application/json" id="optimag-designs">'
-            f"{json_for_script(choose.design_rows(run))}</script>")
+    block = ('<script type="application/json" id="optimag-designs">'
+             f"{json_for_script(choose.design_rows(run))}</script>")
+    whatif = choose.whatif_data(run)
+    if whatif is not None:
+        block += ('<script type="application/json" id="optimag-whatif">'
+                  f"{json_for_script(whatif)}</script>")
+    return block
 
 
 def render_report(run: data.RunData) -> str:

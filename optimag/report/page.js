@@ -442,6 +442,205 @@
     drawLifetime();
   }
 
+  /* ---- what-if limits ------------------------------------------------------------ */
+
+  var whatif = readJson("optimag-whatif");
+  var whatifState = null;
+
+  /* Rows within every limit and objective bound, and the exact front among them:
+   * visited in lexicographic order of the objectives, a row joins the front unless an
+   * earlier front member dominates it (no later row can dominate an earlier one). */
+  function whatIfFront(bounds) {
+    var cols = whatif.columns;
+    var names = whatif.objective_columns;
+    var count = whatif.label.length;
+    var inside = [];
+    for (var i = 0; i < count; i += 1) {
+      var ok = true;
+      for (var name in bounds) {
+        if (bounds[name] !== null && !(cols[name][i] <= bounds[name])) {
+          ok = false;
+          break;
+        }
+      }
+      if (ok) {
+        inside.push(i);
+      }
+    }
+    inside.sort(function (a, b) {
+      for (var k = 0; k < names.length; k += 1) {
+        var d = cols[names[k]][a] - cols[names[k]][b];
+        if (d !== 0) {
+          return d;
+        }
+      }
+      return a - b;
+    });
+    var front = [];
+    inside.forEach(function (row) {
+      var dominated = front.some(function (member) {
+        var better = false;
+        for (var k = 0; k < names.length; k += 1) {
+          var a = cols[names[k]][member];
+          var b = cols[names[k]][row];
+          if (a > b) {
+            return false;
+          }
+          if (a < b) {
+            better = true;
+          }
+        }
+        return better;
+      });
+      if (!dominated) {
+        front.push(row);
+      }
+    });
+    return { inside: inside, front: front.sort(function (a, b) { return a - b; }) };
+  }
+
+  function currentBounds() {
+    var bounds = {};
+    var inputs = document.querySelectorAll("#whatif-sliders input[type=range]");
+    for (var i = 0; i < inputs.length; i += 1) {
+      var input = inputs[i];
+      var open = input.getAttribute("data-open") === "1" &&
+        Number(input.value) >= Number(input.max);
+      bounds[input.getAttribute("data-column")] = open ? null : Number(input.value);
+    }
+    return bounds;
+  }
+
+  function drawWhatIf() {
+    var bounds = currentBounds();
+    var result = whatIfFront(bounds);
+    whatifState = { bounds: bounds, inside: result.inside, front: result.front };
+    var inputs = document.querySelectorAll("#whatif-sliders input[type=range]");
+    for (var i = 0; i < inputs.length; i += 1) {
+      var shown = document.getElementById(inputs[i].id + "-shown");
+      var value = bounds[inputs[i].getAttribute("data-column")];
+      shown.textContent = value === null ? "no limit" : "≤ " + Number(value).toPrecision(4);
+    }
+    var status = document.getElementById("whatif-status");
+    status.textContent = result.inside.length + " of " + whatif.label.length +
+      " held designs within these bounds; " + result.front.length + " on their front.";
+    var warning = document.getElementById("whatif-warning");
+    clear(warning);
+    var relaxed = whatif.limits.filter(function (limit) {
+      var value = bounds[limit.column];
+      return limit.study !== null && (value === null || value > limit.study);
+    });
+    var deepest = whatif.layers === null ? null : whatif.layers - 1;
+    var reachesDeepest = deepest !== null && result.front.some(function (row) {
+      return whatif.layer[row] >= deepest;
+    });
+    if (relaxed.length || reachesDeepest) {
+      var box = element("div", null, "alert");
+      if (relaxed.length) {
+        var keys = relaxed.map(function (limit) {
+          var value = bounds[limit.column];
+          return limit.key + " = " + (value === null ? "(remove it)" : Number(value).toPrecision(4));
+        });
+        box.appendChild(element("p", "A relaxed limit would admit designs this page does " +
+          "not hold (the run kept only those within the study's limits). To see them, set " +
+          "[limits] " + keys.join(", ") + " in " + whatif.study_file + " and run:"));
+      } else {
+        box.appendChild(element("p", "This front reaches the deepest layer the page holds: " +
+          "designs beyond it may belong on it too. For the exact front, set these limits in " +
+          whatif.study_file + " and run:"));
+      }
+      box.appendChild(element("code", "optimag explore " + whatif.study_file));
+      warning.appendChild(box);
+    }
+    var cols = whatif.columns;
+    var x = whatif.objective_columns[0];
+    var y = whatif.objective_columns[1] || whatif.objective_columns[0];
+    var isFront = {};
+    result.front.forEach(function (row) { isFront[row] = true; });
+    var isInside = {};
+    result.inside.forEach(function (row) { isInside[row] = true; });
+    function pointsOf(test) {
+      var xs = [];
+      var ys = [];
+      var text = [];
+      for (var i = 0; i < whatif.label.length; i += 1) {
+        if (test(i)) {
+          xs.push(cols[x][i]);
+          ys.push(cols[y][i]);
+          text.push(whatif.label[i] + (whatif.design_id[i] ? " (" + whatif.design_id[i] + ")" : ""));
+        }
+      }
+      return { x: xs, y: ys, text: text };
+    }
+    function trace(name, points, colour, size) {
+      return { type: "scattergl", mode: "markers", name: name, x: points.x, y: points.y,
+        text: points.text, hovertemplate: "%{text}<extra></extra>",
+        marker: { color: colour, size: size } };
+    }
+    var traces = [
+      trace("ruled out", pointsOf(function (i) { return !isInside[i]; }), "#d8d4cb", 4),
+      trace("within the bounds", pointsOf(function (i) { return isInside[i] && !isFront[i]; }),
+        "#c9b88f", 5),
+      trace("front under these bounds", pointsOf(function (i) { return isFront[i]; }),
+        "#1f6f78", 9),
+    ];
+    var layout = {
+      height: 440, margin: { l: 60, r: 16, t: 16, b: 50 },
+      paper_bgcolor: "#fffdf8", plot_bgcolor: "#fbf8f1",
+      xaxis: { title: { text: whatif.titles[0] } },
+      yaxis: { title: { text: whatif.titles[1] || whatif.titles[0] } },
+      legend: { orientation: "h", y: -0.18 },
+    };
+    var plot = document.getElementById("whatif-plot");
+    plot.setAttribute("data-front", result.front.join(","));
+    Plotly.react(plot, traces, layout, config);
+  }
+
+  function slider(id, column, words, low, high, value, open) {
+    var label = element("label", words + " ");
+    var input = element("input");
+    input.type = "range";
+    input.id = id;
+    input.min = String(low);
+    input.max = String(high);
+    input.step = "any";
+    input.value = String(value);
+    input.setAttribute("data-column", column);
+    input.setAttribute("data-open", open ? "1" : "0");
+    input.addEventListener("input", drawWhatIf);
+    label.appendChild(input);
+    label.appendChild(element("output", "", null)).id = id + "-shown";
+    return label;
+  }
+
+  function setUpWhatIf() {
+    var holder = document.getElementById("whatif-sliders");
+    if (!holder || !whatif) {
+      return;
+    }
+    whatif.limits.forEach(function (limit, i) {
+      var low = limit.low;
+      var top = limit.study !== null ? Math.max(limit.study * 1.25, limit.high) : limit.high;
+      var start = limit.study !== null ? limit.study : top;
+      holder.appendChild(slider("whatif-limit-" + i, limit.column, limit.words, low, top, start,
+        limit.study === null));
+    });
+    whatif.objective_columns.forEach(function (column, i) {
+      var values = whatif.columns[column];
+      var low = Math.min.apply(null, values);
+      var high = Math.max.apply(null, values);
+      holder.appendChild(slider("whatif-objective-" + i, column, whatif.titles[i] + " up to",
+        low, high, high, true));
+    });
+    var observer = new IntersectionObserver(function (entries) {
+      if (entries.some(function (e) { return e.isIntersecting; })) {
+        observer.disconnect();
+        drawWhatIf();
+      }
+    });
+    observer.observe(document.getElementById("whatif"));
+  }
+
   if ("IntersectionObserver" in window) {
     observer = new IntersectionObserver(onSight, { rootMargin: "100px 0px" });
   }
@@ -449,8 +648,12 @@
     draw: draw, watch: watch, sources: sources, readJson: readJson, openSheet: openSheet,
     afterDraw: afterDraw, pick: pick, csvText: csvText, lifetimeRanking: lifetimeRanking,
   };
+  window.optimagReport.whatIfFront = whatIfFront;
+  window.optimagReport.whatIfState = function () { return whatifState; };
+  window.optimagReport.drawWhatIf = drawWhatIf;
   setUpComparison();
   setUpLifetime();
+  setUpWhatIf();
   watch(document);
   if (!observer || document.querySelectorAll("div.lazy-figure").length === 0) {
     first = false;

@@ -34,7 +34,7 @@ import numpy as np
 from optimag import model, tolerance
 from optimag.codes import Family, MaterialKind
 from optimag.ranges import MEMORY_BUDGET_BYTES
-from optimag.search.pareto import RunningFront
+from optimag.search.pareto import NearFrontPool, RunningFront
 from optimag.study.tolerance import ToleranceSpec
 
 CANDIDATE_FIELDS = tuple(f.name for f in dataclasses.fields(model.Candidates))
@@ -58,6 +58,15 @@ _PLANNED_SHARE = 0.75
 #: Infeasible candidates kept to show when nothing is feasible.
 NEAR_MISS_COUNT = 5
 
+#: Feasible designs kept near the front for the report's what-if limits (whole
+#: non-dominated layers, at most this many; sorting into layers costs about the square of
+#: the designs held, so a few thousand keep it a small share of a search).
+NEAR_FRONT_CAP = 5_000
+
+#: Figures the report's what-if limits act on, kept with each near-front design.
+NEAR_FRONT_FIGURES = ("worst_hotspot_temperature_C", "box_height_m", "footprint_m2",
+                      "volume_cm3", "weighted_loss_W")
+
 
 @dataclass
 class ExhaustiveOutcome:
@@ -75,6 +84,9 @@ class ExhaustiveOutcome:
     stage_sizes: dict[str, int] = field(default_factory=dict)
     #: With a robust search: the front of every nominally feasible design, for comparison.
     nominal_front: RunningFront | None = None
+    #: The first non-dominated layers of the feasible designs (candidate fields and
+    #: `NEAR_FRONT_FIGURES`), for the report's what-if limits.
+    pool: NearFrontPool | None = None
 
 
 @dataclass(frozen=True)
@@ -288,6 +300,7 @@ class SearchPart:
     near_magnetic: _MagneticNearMisses
     stage_sizes: dict[str, int]
     interrupted: bool = False
+    pool: NearFrontPool | None = None
 
 
 def group_count(space: model.DesignSpace) -> int:
@@ -339,6 +352,7 @@ def search_groups(
     chunk = walk.chunk
     eliminated = dict.fromkeys(model.CONSTRAINTS, 0)
     front = RunningFront(len(objectives))
+    pool = NearFrontPool(len(objectives), NEAR_FRONT_CAP)
     nominal_front = None
     if robust is not None:
         eliminated[ROBUST_CONSTRAINT] = 0
@@ -406,10 +420,12 @@ def search_groups(
                             ok = metrics["feasible"]
                             feasible += int(np.count_nonzero(ok))
                             if np.any(ok):
-                                front.offer(
-                                    model.objective_matrix(metrics, objectives)[ok],
-                                    {f: getattr(candidates, f)[ok] for f in CANDIDATE_FIELDS},
-                                )
+                                values = model.objective_matrix(metrics, objectives)[ok]
+                                fields = {f: getattr(candidates, f)[ok]
+                                          for f in CANDIDATE_FIELDS}
+                                front.offer(values, fields)
+                                pool.offer(values, fields | {
+                                    f: metrics[f][ok] for f in NEAR_FRONT_FIGURES})
                             near.offer(candidates, metrics)
                         if progress:
                             progress(done, total)
@@ -418,7 +434,7 @@ def search_groups(
     return SearchPart(
         front=front, nominal_front=nominal_front, eliminated=eliminated, feasible=feasible,
         done=done, near=near, near_magnetic=near_magnetic, stage_sizes=stage_sizes,
-        interrupted=interrupted,
+        interrupted=interrupted, pool=pool,
     )
 
 
@@ -432,8 +448,11 @@ def merge_parts(parts: list[SearchPart], n_objectives: int) -> SearchPart:
     eliminated: dict[str, int] = {}
     stage_sizes: dict[str, int] = {}
     near, near_magnetic = _NearMisses(), _MagneticNearMisses()
+    pool = NearFrontPool(n_objectives, NEAR_FRONT_CAP)
     for part in parts:
         front.offer(part.front.objectives, part.front.payload)
+        if part.pool is not None:
+            pool.merge(part.pool)
         if nominal_front is not None and part.nominal_front is not None:
             nominal_front.offer(part.nominal_front.objectives, part.nominal_front.payload)
         for counts, into in ((part.eliminated, eliminated), (part.stage_sizes, stage_sizes)):
@@ -447,7 +466,7 @@ def merge_parts(parts: list[SearchPart], n_objectives: int) -> SearchPart:
         front=front, nominal_front=nominal_front, eliminated=eliminated,
         feasible=sum(p.feasible for p in parts), done=sum(p.done for p in parts), near=near,
         near_magnetic=near_magnetic, stage_sizes=stage_sizes,
-        interrupted=any(p.interrupted for p in parts),
+        interrupted=any(p.interrupted for p in parts), pool=pool,
     )
 
 
@@ -474,7 +493,14 @@ def finish_search(space: model.DesignSpace, part: SearchPart, total: int,
         interrupted=interrupted,
         stage_sizes=part.stage_sizes,
         nominal_front=part.nominal_front,
+        pool=_pruned(part.pool),
     )
+
+
+def _pruned(pool: NearFrontPool | None) -> NearFrontPool | None:
+    if pool is not None:
+        pool.prune()
+    return pool
 
 
 def _screen_corners(space, candidates, metrics, spec, objectives, eliminated, nominal_front):

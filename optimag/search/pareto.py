@@ -205,3 +205,138 @@ def knee_index(points: ArrayLike) -> int:
     scaled = normalised_objectives(points)
     distance = np.sqrt(np.sum(scaled**2, axis=1))
     return int(np.argmin(distance))
+
+
+def layer_numbers(points: ArrayLike, stop_after: int | None = None,
+                  max_layers: int | None = None) -> NDArray[np.int64]:
+    """Non-dominated sorting: layer 0 is the front, layer 1 the front of the rest, ...
+
+    Points are visited in lexicographic order, where no point can be dominated by a later
+    one; each joins the first layer none of whose members dominates it (efficient
+    non-dominated sort, Zhang et al., IEEE Trans. Evol. Comput. 19(2), 2015). Blocks of
+    points are compared with each layer at once. Layers from ``max_layers`` on, and those
+    started after ``stop_after`` points have a layer, are not kept: their points get -1.
+    """
+    points = np.asarray(points, dtype=float)
+    count = len(points)
+    layers = np.full(count, -1, dtype=np.int64)
+    if count == 0:
+        return layers
+    order = np.lexsort(points.T[::-1])
+    members: list[list[np.ndarray]] = []  # per layer: blocks of its points
+    placed = 0
+    limit = max_layers if max_layers is not None else count
+    block = 256
+    for start in range(0, count, block):
+        rows = order[start : start + block]
+        chunk = points[rows]
+        # Lowest layer of earlier blocks that leaves each point undominated.
+        base = np.full(len(rows), -1, dtype=np.int64)
+        pending = np.arange(len(rows))
+        for k, blocks in enumerate(members):
+            if not pending.size:
+                break
+            layer_points = np.concatenate(blocks) if len(blocks) > 1 else blocks[0]
+            if len(blocks) > 1:
+                members[k] = [layer_points]
+            hit = dominated_by_any(chunk[pending], layer_points)
+            base[pending[~hit]] = k
+            pending = pending[hit]
+        base[pending] = len(members)
+        # Within the block: a point is at least one layer below any earlier point of the
+        # block that dominates it.
+        no_worse = np.all(chunk[:, None, :] <= chunk[None, :, :], axis=2)
+        better = np.any(chunk[:, None, :] < chunk[None, :, :], axis=2)
+        dominates = np.triu(no_worse & better, k=1)  # [q, p]: q (earlier) dominates p
+        assigned = base.copy()
+        for p in range(1, len(rows)):
+            above = dominates[:p, p]
+            if above.any():
+                assigned[p] = max(assigned[p], int(assigned[:p][above].max()) + 1)
+        keep = assigned < limit
+        for k in np.unique(assigned[keep]):
+            while len(members) <= k:
+                members.append([])
+            members[int(k)].append(chunk[assigned == k])
+        layers[rows[keep]] = assigned[keep]
+        placed += int(np.count_nonzero(keep))
+        if stop_after is not None and placed > stop_after:
+            # No later point can join a layer started so far below the current count:
+            # cap the layers at those holding the first stop_after points.
+            counts = np.bincount(layers[layers >= 0])
+            limit = min(limit, int(np.searchsorted(np.cumsum(counts), stop_after)) + 1)
+            members = members[:limit]
+            layers[layers >= limit] = -1
+            placed = int(np.count_nonzero(layers >= 0))
+    return layers
+
+
+class NearFrontPool:
+    """The first few non-dominated layers of every point offered, at most ``cap`` points
+    (whole layers only; the first layer is kept whatever its size).
+
+    A point's layer among a subset is never deeper than among the whole set, so a point
+    dropped at a prune (layer k or deeper there) is at layer k or deeper overall; the pool
+    prunes to the same or fewer layers each time, and so ends holding exactly the first
+    ``layers`` layers of everything offered. Once pruned, an offered point that a member
+    of the deepest layer kept dominates is at least one layer deeper, beyond the pool, and
+    is not taken in at all (this keeps prunes rare).
+    """
+
+    def __init__(self, n_objectives: int, cap: int = 20_000):
+        self.cap = cap
+        self.objectives = np.empty((0, n_objectives))
+        self.payload: dict[str, np.ndarray] = {}
+        #: Layers held (None: every point offered is still held).
+        self.layers: int | None = None
+        #: Members of the deepest layer held at the last prune (the screen of `offer`).
+        self._deepest = np.empty((0, n_objectives))
+
+    def __len__(self) -> int:
+        return len(self.objectives)
+
+    def offer(self, objectives: ArrayLike, payload: dict[str, np.ndarray]) -> None:
+        objectives = np.asarray(objectives, dtype=float)
+        if len(objectives) and len(self._deepest):
+            near = ~dominated_by_any(objectives, self._deepest)
+            objectives = objectives[near]
+            payload = {k: np.asarray(v)[near] for k, v in payload.items()}
+        if len(objectives) == 0:
+            return
+        self.objectives = np.concatenate([self.objectives, objectives])
+        if self.payload:
+            self.payload = {k: np.concatenate([v, np.asarray(payload[k])])
+                            for k, v in self.payload.items()}
+        else:
+            self.payload = {k: np.asarray(v) for k, v in payload.items()}
+        if len(self.objectives) > 2 * self.cap:
+            self.prune()
+
+    def merge(self, other: NearFrontPool) -> None:
+        """Take in another pool's points (as if they had been offered here)."""
+        self.offer(other.objectives, other.payload)
+        if other.layers is not None:
+            self.prune(other.layers)
+
+    def prune(self, at_most: int | None = None) -> None:
+        """Keep the first layers that fit in ``cap`` points (and at most ``at_most``
+        layers, and no more than any earlier prune kept)."""
+        if not len(self.objectives):
+            return
+        layers = layer_numbers(self.objectives, stop_after=self.cap,
+                               max_layers=self.layers)
+        held = layers[layers >= 0]
+        counts = np.bincount(held)
+        fitting = int(np.searchsorted(np.cumsum(counts), self.cap, side="right"))
+        keep_layers = max(1, fitting)
+        for bound in (at_most, self.layers):
+            if bound is not None:
+                keep_layers = min(keep_layers, bound)
+        everything = keep_layers >= len(counts) and np.all(layers >= 0)
+        if everything and self.layers is None and at_most is None:
+            return  # everything fits: nothing dropped, no layer bound yet
+        keep = (layers >= 0) & (layers < keep_layers)
+        self._deepest = self.objectives[layers == keep_layers - 1]
+        self.objectives = self.objectives[keep]
+        self.payload = {k: v[keep] for k, v in self.payload.items()}
+        self.layers = keep_layers

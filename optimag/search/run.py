@@ -19,7 +19,12 @@ from optimag.search.exhaustive import CANDIDATE_FIELDS, SearchPlan, explore_exha
 from optimag.search.fingerprint import study_fingerprint
 from optimag.search.given import reference_design_records
 from optimag.search.hand import hand_sizing
-from optimag.search.pareto import KNEE_METHOD, NORMALISATION_METHOD, knee_index
+from optimag.search.pareto import (
+    KNEE_METHOD,
+    NORMALISATION_METHOD,
+    knee_index,
+    layer_numbers,
+)
 from optimag.search.shortlist import SHORTLIST_METHOD, spread_shortlist
 from optimag.study.catalog_check import (
     check_study_against_catalog,
@@ -50,6 +55,8 @@ class ExploreResult:
     run_dir: Path | None = None
     #: Records of every front design (the short-listed ones among them), front order.
     front_records: list[dict] = field(default_factory=list)
+    #: The first non-dominated layers of the feasible designs, columnar (`near_front`).
+    near_front: dict | None = None
 
     @property
     def feasible(self) -> bool:
@@ -310,6 +317,8 @@ def _assemble(study, catalog, space, objectives, outcome, top,
         eliminated=eliminated, record=record, front_candidates=front_candidates,
         front_metrics=front_metrics, near_miss_records=near_records,
         front_records=front_records,
+        near_front=near_front(space, objectives, getattr(outcome, "pool", None),
+                              front_candidates, front_ids, study),
     )
 
 
@@ -346,4 +355,51 @@ def _robust_record(study, outcome, objectives) -> dict:
         "method": "every limit met at each constraint's worst tolerance corner",
         "objectives": list(objectives),
         "nominal_front": points,
+    }
+
+
+def near_front(space, objectives, pool, front_candidates, front_ids, study) -> dict | None:
+    """The near-front pool as columns for the report's what-if limits: each design's
+    construction (catalogue ids), its objectives and the figures the limits act on,
+    its front id where it is on the front, the layers held and the study's limits."""
+    if pool is None or not len(pool):
+        return None
+    payload = pool.payload
+    front_key = {}
+    if front_candidates is not None:
+        for i, design in enumerate(front_ids):
+            front_key[tuple(int(getattr(front_candidates, f)[i])
+                            for f in CANDIDATE_FIELDS)] = design
+    keys = zip(*(payload[f].astype(int).tolist() for f in CANDIDATE_FIELDS), strict=True)
+    columns = {
+        "core": [str(space.cores.ids[i]) for i in payload["core"]],
+        "material": [str(space.materials.ids[i]) for i in payload["material"]],
+        "wire": [str(space.wires.ids[i]) for i in payload["wire"]],
+        "stack": payload["stack"].astype(int).tolist(),
+        "turns": payload["turns"].astype(int).tolist(),
+        "parallel": payload["parallel"].astype(int).tolist(),
+        "hotspot_temperature_C": payload["worst_hotspot_temperature_C"].tolist(),
+        "box_height_mm": (payload["box_height_m"] * 1e3).tolist(),
+        "footprint_mm2": (payload["footprint_m2"] * 1e6).tolist(),
+        "volume_cm3": payload["volume_cm3"].tolist(),
+        "weighted_loss_W": payload["weighted_loss_W"].tolist(),
+        "design_id": [front_key.get(k, "") for k in keys],
+        "layer": layer_numbers(pool.objectives).tolist(),
+    }
+    for index, name in enumerate(objectives):
+        columns[model.OBJECTIVE_COLUMNS[name]] = pool.objectives[:, index].tolist()
+    limits = study.limits
+    return {
+        "objectives": list(objectives),
+        "layers": pool.layers,
+        "cap": pool.cap,
+        "count": len(pool),
+        "limits": {
+            "hotspot_temperature_C": limits.max_temperature_C,
+            "box_height_mm": limits.max_height_mm,
+            "footprint_mm2": limits.max_footprint_mm2,
+            "weighted_loss_W": limits.max_loss_W,
+            "volume_cm3": limits.max_volume_cm3,
+        },
+        "columns": columns,
     }

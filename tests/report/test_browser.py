@@ -385,3 +385,87 @@ def test_the_energy_price_slider_marks_the_cheapest_over_the_life(built_report: 
             totals = {d["design_id"]: d["cost"] + float(
                 energy_cost(d["weighted_loss_W"], hours, price)) for d in front}
             assert marked == min(totals, key=lambda k: (totals[k], k)), (price, hours)
+
+
+def _near_front_run(tmp_path: Path, make_run) -> Path:
+    """The fixture run with a near-front file: 400 invented feasible designs in three
+    objectives (invented numbers)."""
+    import json
+
+    import numpy as np
+
+    from optimag.search.pareto import layer_numbers
+
+    folder = make_run(tmp_path)
+    rng = np.random.default_rng(11)
+    count = 400
+    volume = rng.uniform(2.0, 20.0, count)
+    loss = 0.8 + 14.0 / (volume + 1.5) * rng.uniform(1.0, 1.6, count)
+    cost = 0.5 + 0.1 * volume * rng.uniform(0.8, 1.3, count)
+    objectives = np.column_stack([volume, loss, cost])
+    layer = layer_numbers(objectives)
+    columns = {
+        "core": ["E25/13/7"] * count, "material": ["N87-like"] * count,
+        "wire": ["round 1.25 mm"] * count, "stack": [1] * count,
+        "turns": rng.integers(10, 40, count).tolist(), "parallel": [1] * count,
+        "hotspot_temperature_C": rng.uniform(60.0, 100.0, count).tolist(),
+        "box_height_mm": rng.uniform(8.0, 22.0, count).tolist(),
+        "footprint_mm2": rng.uniform(300.0, 900.0, count).tolist(),
+        "volume_cm3": volume.tolist(), "weighted_loss_W": loss.tolist(),
+        "cost": cost.tolist(), "design_id": [""] * count, "layer": layer.tolist(),
+    }
+    # Every feasible design held (no layer bound): a front is never cut short.
+    near = {"objectives": ["volume", "loss", "cost"], "layers": None,
+            "cap": 20_000, "count": count,
+            "limits": {"hotspot_temperature_C": 100.0, "box_height_mm": 22.0,
+                       "footprint_mm2": None, "weighted_loss_W": None, "volume_cm3": None},
+            "columns": columns}
+    (folder / "near_front.json").write_text(json.dumps(near), "utf-8")
+    return folder
+
+
+def test_the_temperature_slider_recomputes_the_front_as_python_does(
+    tmp_path: Path, make_run
+) -> None:
+    """Moving the temperature slider in the page leaves exactly the front that Python
+    computes (`optimag.search.pareto.nondominated_mask`) on the embedded designs within
+    the same limits; relaxing past the study's limit shows the rerun command."""
+    import json
+
+    import numpy as np
+
+    from optimag.report.html import build_report
+    from optimag.search.pareto import nondominated_mask
+
+    chromium_or_skip()
+    page = build_report(_near_front_run(tmp_path, make_run))
+    with Browser(window=WINDOW) as browser:
+        tab = _open_page(browser, page)
+        embedded = json.loads(tab.evaluate(
+            "document.getElementById('optimag-whatif').textContent"))
+        cols = {k: np.asarray(v, dtype=float) for k, v in embedded["columns"].items()}
+        tab.evaluate("document.getElementById('whatif').scrollIntoView()")
+        tab.wait_for("document.getElementById('whatif-plot').hasAttribute('data-front')", 60)
+        slider = "document.getElementById('whatif-limit-0')"
+        assert tab.evaluate(f"{slider}.getAttribute('data-column')") == "hotspot_temperature_C"
+        for limit in (100.0, 90.0, 80.0, 70.0):
+            tab.evaluate(f"(function () {{ var s = {slider}; s.value = '{limit}';"
+                         " s.dispatchEvent(new Event('input')); })()")
+            shown = tab.evaluate("document.getElementById('whatif-plot')"
+                                 ".getAttribute('data-front')")
+            page_front = sorted(int(v) for v in shown.split(",") if v)
+            bound = float(tab.evaluate(f"Number({slider}.value)"))
+            inside = (cols["hotspot_temperature_C"] <= bound) & (cols["box_height_mm"] <= 22.0)
+            rows = np.flatnonzero(inside)
+            points = np.column_stack([cols[c][rows] for c in embedded["objective_columns"]])
+            python_front = sorted(rows[nondominated_mask(points)].tolist())
+            assert page_front == python_front, limit
+            removed = set(range(len(cols["cost"]))) - set(rows.tolist())
+            assert not removed & set(page_front)
+        assert tab.evaluate("document.querySelector('#whatif-warning .alert') === null")
+        tab.evaluate(f"(function () {{ var s = {slider}; s.value = s.max;"
+                     " s.dispatchEvent(new Event('input')); })()")
+        warning = tab.evaluate("document.getElementById('whatif-warning').textContent")
+        assert "max_temperature_C = 125" in warning
+        assert "optimag explore " in warning and "study.toml" in warning
+        assert tab.console_problems() == []
