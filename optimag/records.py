@@ -93,7 +93,7 @@ register(
        None, "text"),
     _f("dcm", "", "DCM",
        "True when this design's current is discontinuous at the point (decided by its own "
-       "inductance)", None, "text"),
+       "inductance); over a line cycle, somewhere along it", None, "text"),
     # --- magnetic -----------------------------------------------------------------
     _f("gap_mm", "mm", "Air gap",
        "Gap length per gapped leg: the centre leg's gap of a ground core, the spacer "
@@ -122,7 +122,8 @@ register(
        "limit is checked against; in the record the highest of all operating points",
        3, "worst"),
     _f("flux_swing_T", "T", "Flux swing",
-       "Peak-to-peak flux density on Ae, the swing core loss is computed from", 3, "point"),
+       "Peak-to-peak flux density on Ae, the swing core loss is computed from; over a "
+       "line cycle the largest switching period's", 3, "point"),
     _f("flux_limit_T", "T", "Flux limit",
        "Allowed peak flux density: the flux margin times Bsat at the temperature limit",
        3, "limit"),
@@ -130,13 +131,16 @@ register(
        "Saturation flux density of the material at the study's temperature limit", 3,
        "limit"),
     # --- losses and temperature ---------------------------------------------------
-    _f("core_loss_W", "W", "Core loss", "Core loss (iGSE) at the operating point", 3,
-       "point"),
+    _f("core_loss_W", "W", "Core loss",
+       "Core loss (iGSE) at the operating point; over a line cycle the mean of its "
+       "switching periods'", 3, "point"),
     _f("winding_dc_loss_W", "W", "Winding DC loss",
        "DC winding loss at the operating point: DC resistance at temperature times the "
-       "DC current squared", 3, "point"),
+       "DC current squared (over a line cycle: the line-frequency current's RMS squared)",
+       3, "point"),
     _f("winding_ac_loss_W", "W", "Winding AC loss",
-       "AC winding loss (ripple harmonics, Dowell/litz) at the operating point", 3, "point"),
+       "AC winding loss (ripple harmonics, Dowell/litz) at the operating point; over a line "
+       "cycle the mean of its switching periods'", 3, "point"),
     _f("winding_gap_loss_W", "W", "Gap loss in the winding",
        "Extra eddy loss of the conductors in the gap's fringing field beyond the 1-D field "
        "of the AC loss (gap as a line MMF source with its yoke images, Roshen 2007; "
