@@ -102,3 +102,28 @@ def test_last_whole_period_is_taken_and_thinned_exactly():
     exact = piecewise_linear_harmonics([0, 0.4 * period, period], [1, 3, 1], 25)
     got = piecewise_linear_harmonics(wave.times_s, wave.currents_A, 25)
     np.testing.assert_allclose(got, exact, rtol=1e-5, atol=1e-9)
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_CELL = st.one_of(st.floats(allow_nan=True, allow_infinity=True).map(repr),
+                  st.text(max_size=6), st.just(""), st.just("1e-6"))
+
+
+@settings(max_examples=150, deadline=None)
+@given(header=st.sampled_from(["time_s,current_A", "time_s;current_A", "", "t,i"]),
+       rows=st.lists(st.lists(_CELL, min_size=0, max_size=3), max_size=12))
+def test_any_file_is_read_or_refused_in_one_line(tmp_path_factory, header, rows):
+    """Whatever the file holds, the reader returns a waveform or raises InputError naming
+    the file (never another exception)."""
+    path = tmp_path_factory.mktemp("w") / "any.csv"
+    text = header + "\n" + "\n".join(",".join(r) for r in rows)
+    path.write_bytes(text.encode("utf-8", "replace"))
+    try:
+        wave = read_current_waveform(path, FREQUENCY)
+    except InputError as error:
+        assert all(p.file == str(path) for p in error.problems)
+    else:
+        assert np.all(np.diff(wave.times_s) > 0)
+        assert wave.currents_A[0] == wave.currents_A[-1]
