@@ -892,11 +892,22 @@ def applied_defaults(study: Study) -> list[tuple[str, Any]]:
         for key in model.model_fields:
             if key in given:
                 continue
+            if name == "converter" and not _converter_key_applies(key, study.converter.topology):
+                continue
             value = getattr(section, key)
             if name == "inductor" and key == "ripple_point" and study.ripple_point is not None:
                 value = study.ripple_point.name
             applied.append((f"{name}.{key}", value))
     return applied
+
+
+def _converter_key_applies(key: str, topology: str) -> bool:
+    """Whether a ``[converter]`` key means anything for the topology (the line walk only
+    for line-cycle topologies, phases and modulation only where required)."""
+    if key == "line_steps":
+        return topology in LINE_CYCLE_TOPOLOGIES
+    # phases and modulation are required where they apply, so never a default.
+    return key not in ("phases", "modulation")
 
 
 #: Sections written as arrays of tables ([[name]]).
