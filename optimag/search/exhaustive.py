@@ -61,7 +61,7 @@ NEAR_MISS_COUNT = 5
 #: Feasible designs kept near the front for the report's what-if limits (whole
 #: non-dominated layers, at most this many; sorting into layers costs about the square of
 #: the designs held, so a few thousand keep it a small share of a search).
-NEAR_FRONT_CAP = 5_000
+NEAR_FRONT_CAP = 3_000
 
 #: Figures the report's what-if limits act on, kept with each near-front design.
 NEAR_FRONT_FIGURES = ("worst_hotspot_temperature_C", "box_height_m", "footprint_m2",
