@@ -175,6 +175,11 @@
     }
   }
 
+  /* plotly.js draws text as a small HTML dialect: user strings go in escaped. */
+  function plotText(value) {
+    return String(value).replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;");
+  }
+
   function format(value, digits) {
     if (value === null || value === undefined || !isFinite(value)) {
       return "—";
@@ -277,7 +282,7 @@
       charts.appendChild(wrapper);
       var traces = designs.parts.map(function (part, k) {
         return {
-          type: "bar", name: part, x: picked.slice(),
+          type: "bar", name: part, x: picked.map(plotText),
           y: picked.map(function (id) {
             var losses = byId[id].losses[p];
             return losses ? losses[k] : null;
@@ -567,7 +572,8 @@
         if (test(i)) {
           xs.push(cols[x][i]);
           ys.push(cols[y][i]);
-          text.push(whatif.label[i] + (whatif.design_id[i] ? " (" + whatif.design_id[i] + ")" : ""));
+          text.push(plotText(whatif.label[i] +
+            (whatif.design_id[i] ? " (" + whatif.design_id[i] + ")" : "")));
         }
       }
       return { x: xs, y: ys, text: text };
@@ -577,6 +583,17 @@
         text: points.text, hovertemplate: "%{text}<extra></extra>",
         marker: { color: colour, size: size } };
     }
+    var references = designs ? designs.designs.filter(function (row) {
+      return row.kind === "reference";
+    }) : [];
+    var referenceTrace = {
+      type: "scatter", mode: "markers", name: "reference design",
+      x: references.map(function (row) { return field(row, x); }),
+      y: references.map(function (row) { return field(row, y); }),
+      text: references.map(function (row) { return plotText(row.id); }),
+      hovertemplate: "%{text} (reference)<extra></extra>",
+      marker: { symbol: "star", size: 14, color: "#a4452c" },
+    };
     var traces = [
       trace("ruled out", pointsOf(function (i) { return !isInside[i]; }), "#d8d4cb", 4),
       trace("within the bounds", pointsOf(function (i) { return isInside[i] && !isFront[i]; }),
@@ -584,6 +601,9 @@
       trace("front under these bounds", pointsOf(function (i) { return isFront[i]; }),
         "#1f6f78", 9),
     ];
+    if (references.length) {
+      traces.push(referenceTrace);
+    }
     var layout = {
       height: 440, margin: { l: 60, r: 16, t: 16, b: 50 },
       paper_bgcolor: "#fffdf8", plot_bgcolor: "#fbf8f1",

@@ -8,7 +8,7 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from optimag.arrays import BoolArray, FloatArray
+from optimag.arrays import BoolArray, FloatArray, IndexArray
 
 #: Rows compared at once when filtering against a front (bounds the n x f boolean block).
 _BLOCK_ROWS = 4096
@@ -208,7 +208,7 @@ def knee_index(points: ArrayLike) -> int:
 
 
 def layer_numbers(points: ArrayLike, stop_after: int | None = None,
-                  max_layers: int | None = None) -> NDArray[np.int64]:
+                  max_layers: int | None = None) -> IndexArray:
     """Non-dominated sorting: layer 0 is the front, layer 1 the front of the rest, ...
 
     Points are visited in lexicographic order, where no point can be dominated by a later
