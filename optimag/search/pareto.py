@@ -6,7 +6,7 @@ All objectives are minimised. Objective matrices have shape (n_points, n_objecti
 from __future__ import annotations
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
 from optimag.arrays import BoolArray, FloatArray, IndexArray
 
