@@ -7,8 +7,10 @@ Each example study is explored into RUNS_DIR/<study> (a temporary folder by defa
 an existing run folder there is reused; the optuna study runs a shortened search of
 `OPTUNA_TRIALS` trials) and its report rebuilt. Ready means: the load event has fired
 and every figure near the first screen (1400 x 900) is drawn; the blank page is ready
-at its load event. Each page is loaded `REPEATS` times, each time in a fresh browser
-with a fresh profile, and the median is printed, in seconds since navigation start, as
+at its load event. Each report is loaded `REPEATS` times, each time in a fresh browser
+with a fresh profile, alternating with the blank page (so both see the same load on a
+shared machine); medians are printed, in seconds since navigation start, the blank
+page's over all its loads, as
 
     solar-pump-boost report ready s: 1.42
     blank page ready s: 1.10
@@ -38,14 +40,11 @@ READY = """(function () {
 })()"""
 
 
-def ready_seconds(page: Path) -> float:
-    """Median ready time of ``page`` over `REPEATS` fresh browsers [s]."""
-    times = []
-    for _ in range(REPEATS):
-        with Browser(window=(1400, 900), timeout_s=120) as browser:
-            tab = browser.open(page.resolve().as_uri())
-            times.append(float(tab.wait_for(READY, timeout_s=120)) / 1e3)
-    return statistics.median(times)
+def ready_once(page: Path) -> float:
+    """Ready time of one load of ``page`` in a fresh browser [s]."""
+    with Browser(window=(1400, 900), timeout_s=120) as browser:
+        tab = browser.open(page.resolve().as_uri())
+        return float(tab.wait_for(READY, timeout_s=120)) / 1e3
 
 
 def blank_page(folder: Path) -> Path:
@@ -78,11 +77,17 @@ def run_folder(study: Path, runs: Path) -> Path:
 def main() -> None:
     runs = Path(sys.argv[1]) if len(sys.argv) > 1 else Path(tempfile.mkdtemp(prefix="ready-"))
     runs.mkdir(parents=True, exist_ok=True)
+    blank = blank_page(runs)
+    blank_times = []
     for study in sorted((ROOT / "studies").glob("*.toml")):
         page = run_folder(study, runs)
+        times = []
+        for _ in range(REPEATS):
+            times.append(ready_once(page))
+            blank_times.append(ready_once(blank))
         print(f"{study.stem} page size MB: {page.stat().st_size / 1e6:.2f}", flush=True)
-        print(f"{study.stem} report ready s: {ready_seconds(page):.2f}", flush=True)
-    print(f"blank page ready s: {ready_seconds(blank_page(runs)):.2f}", flush=True)
+        print(f"{study.stem} report ready s: {statistics.median(times):.2f}", flush=True)
+    print(f"blank page ready s: {statistics.median(blank_times):.2f}", flush=True)
 
 
 if __name__ == "__main__":
