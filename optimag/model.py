@@ -850,6 +850,16 @@ def magnetic_stage(
 # ---------------------------------------------------------------------------------------
 
 
+#: Outputs of `winding_layout_stage` in the order it returns them.
+_LAYOUT_KEYS = (
+    "layers", "conductors_per_layer", "build_m", "fill_factor", "mlt_m", "copper_area_m2",
+    "dc_resistance_20C_ohm", "box_length_m", "box_width_m", "box_height_m", "footprint_m2",
+    "volume_m3", "surface_m2", "copper_mass_kg", "copper_cost", "violation_window_fit",
+    "violation_fill_factor", "violation_height", "violation_footprint", "violation_volume",
+    "outside_litz_model",
+)
+
+
 @_quiet
 def winding_layout_stage(
     space: DesignSpace,
@@ -860,7 +870,25 @@ def winding_layout_stage(
     parallel: np.ndarray,
 ) -> dict[str, np.ndarray]:
     """Layout, fill, MLT, DC resistance, boxed size and copper cost for flat (core, stack,
-    turns, wire, parallel) arrays, with normalised violations of `WINDING_CONSTRAINTS`."""
+    turns, wire, parallel) arrays, with normalised violations of `WINDING_CONSTRAINTS`:
+    `winding_fit_stage` and `winding_layout_rest` together."""
+    fit = winding_fit_stage(space, core, stack, turns, wire, parallel)
+    out = {**fit, **winding_layout_rest(space, core, stack, turns, wire, parallel, fit)}
+    return {key: out[key] for key in _LAYOUT_KEYS}
+
+
+@_quiet
+def winding_fit_stage(
+    space: DesignSpace,
+    core: np.ndarray,
+    stack: np.ndarray,
+    turns: np.ndarray,
+    wire: np.ndarray,
+    parallel: np.ndarray,
+) -> dict[str, np.ndarray]:
+    """The part of `winding_layout_stage` that decides `WINDING_CONSTRAINTS`: the layout in
+    the window, the fill and the wound box, with their violations. A search computes the
+    rest (`winding_layout_rest`) only for the windings that pass."""
     c, w = space.cores, space.wires
     req = space.requirements
     n_turns = turns.astype(float)
@@ -887,6 +915,60 @@ def winding_layout_stage(
     copper_per_turn = w.copper_area_m2[wire] * n_par
     fill = winding.fill_factor(n_turns * copper_per_turn, c.window_area_m2[core])
 
+    toroid_od = c.length_m[core]
+    toroid_id = toroid_od - 2.0 * c.leg_width_m[core]
+    box_e = geometry.wound_box_e_type(
+        c.length_m[core], c.width_m[core], c.height_m[core], c.leg_depth_m[core], stack_f,
+        c.bobbin_wall_m[core], build,
+    )
+    box_pot = geometry.wound_box_pot(c.length_m[core], c.height_m[core], stack_f)
+    box_ring = geometry.wound_box_toroid(toroid_od, toroid_id, c.height_m[core], stack_f, build)
+    box_length, box_width, box_height = (
+        np.select([family == Family.E, family == Family.POT, family == Family.TOROID], [e, p, r])
+        for e, p, r in zip(box_e, box_pot, box_ring, strict=True)
+    )
+    footprint = geometry.footprint(box_length, box_width)
+    volume = geometry.box_volume(box_length, box_width, box_height)
+    return {
+        "layers": layers,
+        "conductors_per_layer": per_layer,
+        "build_m": build,
+        "fill_factor": fill,
+        "copper_area_m2": copper_per_turn,
+        "box_length_m": box_length,
+        "box_width_m": box_width,
+        "box_height_m": box_height,
+        "footprint_m2": footprint,
+        "volume_m3": volume,
+        "violation_window_fit": np.where(fits, -1.0, 1.0 + np.maximum(build / width - 1.0, 0)),
+        "violation_fill_factor": fill / req.max_fill_factor - 1.0,
+        "violation_height": box_height / req.max_height_m - 1.0,
+        "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
+        "violation_volume": volume / req.max_volume_m3 - 1.0,
+    }
+
+
+@_quiet
+def winding_layout_rest(
+    space: DesignSpace,
+    core: np.ndarray,
+    stack: np.ndarray,
+    turns: np.ndarray,
+    wire: np.ndarray,
+    parallel: np.ndarray,
+    fit: dict[str, np.ndarray],
+) -> dict[str, np.ndarray]:
+    """The rest of `winding_layout_stage` for windings whose `winding_fit_stage` outputs
+    are ``fit`` (row-aligned): MLT, DC resistance, surface, copper mass and cost, and the
+    litz model's range flag."""
+    c, w = space.cores, space.wires
+    req = space.requirements
+    n_turns = turns.astype(float)
+    stack_f = stack.astype(float)
+    family = c.family[core]
+    kind = w.kind[wire]
+    build = fit["build_m"]
+    copper_per_turn = fit["copper_area_m2"]
     leg_perimeter = np.where(
         family == Family.POT,
         np.pi * c.leg_width_m[core],
@@ -900,41 +982,14 @@ def winding_layout_stage(
         winding.mean_turn_length(leg_perimeter, c.bobbin_wall_m[core], build),
     )
     rdc20 = winding.dc_resistance(COPPER_RESISTIVITY_20C, mlt, n_turns, copper_per_turn)
-
-    box_e = geometry.wound_box_e_type(
-        c.length_m[core], c.width_m[core], c.height_m[core], c.leg_depth_m[core], stack_f,
-        c.bobbin_wall_m[core], build,
-    )
-    box_pot = geometry.wound_box_pot(c.length_m[core], c.height_m[core], stack_f)
-    box_ring = geometry.wound_box_toroid(toroid_od, toroid_id, c.height_m[core], stack_f, build)
-    box_length, box_width, box_height = (
-        np.select([family == Family.E, family == Family.POT, family == Family.TOROID], [e, p, r])
-        for e, p, r in zip(box_e, box_pot, box_ring, strict=True)
-    )
-    footprint = geometry.footprint(box_length, box_width)
-    volume = geometry.box_volume(box_length, box_width, box_height)
     copper_mass = geometry.copper_mass(n_turns, mlt, copper_per_turn)
     return {
-        "layers": layers,
-        "conductors_per_layer": per_layer,
-        "build_m": build,
-        "fill_factor": fill,
         "mlt_m": mlt,
-        "copper_area_m2": copper_per_turn,
         "dc_resistance_20C_ohm": rdc20,
-        "box_length_m": box_length,
-        "box_width_m": box_width,
-        "box_height_m": box_height,
-        "footprint_m2": footprint,
-        "volume_m3": volume,
-        "surface_m2": geometry.surface_area_box(box_length, box_width, box_height),
+        "surface_m2": geometry.surface_area_box(
+            fit["box_length_m"], fit["box_width_m"], fit["box_height_m"]),
         "copper_mass_kg": copper_mass,
         "copper_cost": copper_mass * w.price_per_kg[wire] + n_turns * req.labour_per_turn,
-        "violation_window_fit": np.where(fits, -1.0, 1.0 + np.maximum(build / width - 1.0, 0)),
-        "violation_fill_factor": fill / req.max_fill_factor - 1.0,
-        "violation_height": box_height / req.max_height_m - 1.0,
-        "violation_footprint": footprint / req.max_footprint_m2 - 1.0,
-        "violation_volume": volume / req.max_volume_m3 - 1.0,
         "outside_litz_model": (kind == WireKind.LITZ) & ac_resistance.litz_outside_range(
             w.strand_diameter_m[wire], space.operating.frequency_Hz, LITZ_CHECK_RESISTIVITY
         ),

@@ -419,6 +419,19 @@ def _edge_widening(
     return np.where(gap > 0.0, gap, 0.0) / np.pi * np.log1p(ratio)
 
 
+def _by_gap_kind(spacer: np.ndarray, with_spacer: Callable[[], FloatArray],
+                 ground: Callable[[], FloatArray]) -> FloatArray:
+    """``np.where(spacer, with_spacer(), ground())``, each branch evaluated only when some
+    element takes it."""
+    if not np.any(spacer):
+        value = ground()
+        return np.where(spacer, value, value)
+    if np.all(spacer):
+        value = with_spacer()
+        return np.where(spacer, value, value)
+    return np.where(spacer, with_spacer(), ground())
+
+
 def _leg_edges_permeance(gap: FloatArray, geometry: GapGeometry) -> FloatArray:
     """Gap permeance x lg / mu0 of the centre face and, for a spacer, 1/(1/A_c + 1/A_o)."""
     spacer = np.asarray(geometry.spacer, dtype=bool)
@@ -431,18 +444,18 @@ def _leg_edges_permeance(gap: FloatArray, geometry: GapGeometry) -> FloatArray:
     # off the mid-plane inside the window; a spacer lifts the yokes with the faces.
     # Side-face height: half the window height, from the gap's mid-plane to the yoke.
     inside = 0.5 * window
-    towards_window = np.where(
+    towards_window = _by_gap_kind(
         spacer,
-        _edge_widening(gap, inside, EDGE_COEFFICIENT_WINDOW_SPACER),
-        _edge_widening(gap, inside, EDGE_COEFFICIENT_WINDOW),
+        lambda: _edge_widening(gap, inside, EDGE_COEFFICIENT_WINDOW_SPACER),
+        lambda: _edge_widening(gap, inside, EDGE_COEFFICIENT_WINDOW),
     )
     # Open space: with a ground centre leg the touching outer legs hold the halves' outer
     # faces near one potential, so the leg's own side face drives the fringe; a spacer
     # sets the whole half core (side face and yoke) against the other half.
-    into_space = np.where(
+    into_space = _by_gap_kind(
         spacer,
-        _edge_widening(gap, inside + yoke, EDGE_COEFFICIENT_OPEN_SPACER),
-        _edge_widening(gap, inside, EDGE_COEFFICIENT_OPEN),
+        lambda: _edge_widening(gap, inside + yoke, EDGE_COEFFICIENT_OPEN_SPACER),
+        lambda: _edge_widening(gap, inside, EDGE_COEFFICIENT_OPEN),
     )
     centre = np.where(
         round_leg,

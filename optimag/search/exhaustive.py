@@ -26,7 +26,8 @@ import os
 import sys
 import time
 import tracemalloc
-from collections.abc import Callable, Iterator
+from collections import ChainMap
+from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -549,7 +550,9 @@ def _process_group_batch(
     g_turns = mag["turns"][first_row]
     gi, wire, parallel = _grid(np.arange(len(groups)), wires, space.parallels)
     core, stack, turns = g_core[gi], g_stack[gi], g_turns[gi]
-    layout = model.winding_layout_stage(space, core, stack, turns, wire, parallel)
+    # The fit, fill and box decide the winding constraints; the rest of the layout is
+    # computed for the windings that pass them only.
+    layout = model.winding_fit_stage(space, core, stack, turns, wire, parallel)
     stage_sizes["winding"] = stage_sizes.get("winding", 0) + len(core)
     w_viol = np.stack([layout[f"violation_{c}"] for c in model.WINDING_CONSTRAINTS], axis=1)
     w_first = model.first_violated(w_viol)
@@ -566,6 +569,9 @@ def _process_group_batch(
     if w_pass.size == 0:
         return
     layout = {k: v[w_pass] for k, v in layout.items()}
+    layout.update(model.winding_layout_rest(space, core[w_pass], stack[w_pass],
+                                            turns[w_pass], wire[w_pass], parallel[w_pass],
+                                            layout))
     w_gi = gi[w_pass]
     losses = model.winding_loss_stage(
         space, turns[w_pass], wire[w_pass], parallel[w_pass], layout, core[w_pass]
@@ -600,6 +606,42 @@ def _process_group_batch(
         lo = hi
 
 
+class _Gathered(Mapping):
+    """The columns of ``source`` at ``rows``, each gathered when first read: stage 3 reads
+    a few dozen of the stage outputs, and a chunk's rows are gathered from them once.
+    Columns set on it (``update``) are its own; ``skip`` names columns it does not hold."""
+
+    def __init__(self, source: Mapping[str, np.ndarray], rows: np.ndarray,
+                 skip: tuple[str, ...] = ()):
+        self._source, self._rows, self._skip = source, rows, frozenset(skip)
+        self._columns: dict[str, np.ndarray] = {}
+
+    def __getitem__(self, key: str) -> np.ndarray:
+        column = self._columns.get(key)
+        if column is None:
+            if key in self._skip or key not in self._source:
+                raise KeyError(key)
+            column = self._columns[key] = self._source[key][self._rows]
+        return column
+
+    def __iter__(self) -> Iterator[str]:
+        own = [k for k in self._columns if k not in self._source]
+        return iter([*(k for k in self._source if k not in self._skip), *own])
+
+    def __len__(self) -> int:
+        return sum(1 for _ in self)
+
+    def update(self, columns: Mapping[str, np.ndarray]) -> None:
+        self._columns.update(columns)
+
+    def take(self, keep: np.ndarray) -> _Gathered:
+        """The same columns at the rows ``keep`` of these (columns read so far are sliced,
+        the others gathered from the source when read)."""
+        taken = _Gathered(self._source, self._rows[keep], tuple(self._skip))
+        taken._columns = {k: v[keep] for k, v in self._columns.items()}
+        return taken
+
+
 def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, eliminated,
                  stage_sizes):
     candidates = model.Candidates(
@@ -611,8 +653,8 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
         wire=wires[w_idx],
         parallel=parallels[w_idx],
     )
-    mag_part = {k: v[mag_row] for k, v in mag_out.items() if k not in model.HARMONIC_KEYS}
-    wdg_part = {k: v[w_idx] for k, v in layout.items() if k not in model.HARMONIC_KEYS}
+    mag_part = _Gathered(mag_out, mag_row, model.HARMONIC_KEYS)
+    wdg_part = _Gathered(layout, w_idx, model.HARMONIC_KEYS)
     wdg_part.update(model.winding_ac_loss(mag_out, mag_row, layout, w_idx,
                                           operating=space.operating))
     n_all = len(candidates)
@@ -627,14 +669,15 @@ def _final_stage(space, mag, mag_out, mag_row, layout, w_idx, wires, parallels, 
     keep = np.flatnonzero(~too_hot)
     if keep.size < n_all:
         candidates = candidates.take(keep)
-        mag_part = {k: v[keep] for k, v in mag_part.items()}
-        wdg_part = {k: v[keep] for k, v in wdg_part.items()}
+        mag_part = mag_part.take(keep)
+        wdg_part = wdg_part.take(keep)
         coefficients = tuple(a[keep] for a in coefficients)
     final = model.combine_stage(
         space, candidates.material, candidates.stack, candidates.core, candidates.turns,
         mag_part, wdg_part, coefficients, wire=candidates.wire,
     )
-    metrics = {**mag_part, **wdg_part, **final}
+    # Later names win, as in {**mag_part, **wdg_part, **final}.
+    metrics = ChainMap(final, wdg_part, mag_part)
     violations = model.violations_matrix(metrics)
     first = model.first_violated(violations)
     for index, name in enumerate(model.CONSTRAINTS):
