@@ -104,16 +104,17 @@ class RunningFront:
         local = nondominated_mask(objectives)
         objectives = objectives[local]
         payload = {key: value[local] for key, value in payload.items()}
-        merged = np.concatenate([self.objectives, objectives])
+        # The members are mutually non-dominated and none of the newcomers is dominated by a
+        # member or another newcomer: the new front is the members no newcomer dominates,
+        # then the newcomers (in that order).
+        stay = ~dominated_by_any(self.objectives, objectives)
+        self.objectives = np.concatenate([self.objectives[stay], objectives])
         if self.payload:
-            merged_payload = {
-                key: np.concatenate([self.payload[key], payload[key]]) for key in payload
+            self.payload = {
+                key: np.concatenate([self.payload[key][stay], payload[key]]) for key in payload
             }
         else:
-            merged_payload = payload
-        final = nondominated_mask(merged)
-        self.objectives = merged[final]
-        self.payload = {key: value[final] for key, value in merged_payload.items()}
+            self.payload = payload
 
 
 def hypervolume(points: ArrayLike, reference: ArrayLike) -> float:
